@@ -1,0 +1,133 @@
+// The lotwise command-line program: runs a design file and prints or writes its yield.
+#include <unistd.h>
+
+#include <atomic>
+#include <chrono>
+#include <csignal>
+#include <cstdio>
+#include <iostream>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+#include "lotwise/lotwise.hpp"
+
+namespace {
+
+std::atomic<bool> stop_requested{false};
+
+extern "C" void on_interrupt(int) {
+  stop_requested.store(true);
+  std::signal(SIGINT, SIG_DFL);  // a second Ctrl-C ends the program at once
+}
+
+// Progress on a terminal only, at most five updates a second.
+class ProgressLine {
+ public:
+  explicit ProgressLine(bool enabled) : enabled_(enabled && isatty(STDERR_FILENO)) {}
+  void update(std::uint64_t done, std::uint64_t total) {
+    if (!enabled_) return;
+    const auto now = std::chrono::steady_clock::now();
+    if (done < total && now - last_ < std::chrono::milliseconds(200)) return;
+    last_ = now;
+    std::fprintf(stderr, "\r  %3d %%  %llu of %llu samples", static_cast<int>(100.0 * done / total),
+                 static_cast<unsigned long long>(done), static_cast<unsigned long long>(total));
+    std::fflush(stderr);
+    shown_ = true;
+  }
+  void finish() {
+    if (shown_) std::fprintf(stderr, "\r%60s\r", "");
+  }
+
+ private:
+  bool enabled_;
+  bool shown_ = false;
+  std::chrono::steady_clock::time_point last_{};
+};
+
+int run_command(const std::string& path, const CLI::App& cmd, std::uint64_t samples,
+                std::uint64_t seed, unsigned threads, const std::string& report, bool quiet,
+                double require_yield) {
+  lotwise::Study study(lotwise::load_design(path));
+  lotwise::RunOptions options;
+  const auto& defaults = study.design().run;
+  options.samples = cmd.count("--samples") ? samples : defaults.samples;
+  options.seed = cmd.count("--seed") ? seed : defaults.seed;
+  options.threads = cmd.count("--threads") ? threads : defaults.threads;
+  options.stop = &stop_requested;
+  ProgressLine progress(!quiet);
+  options.progress = [&](std::uint64_t done, std::uint64_t total) { progress.update(done, total); };
+  std::signal(SIGINT, on_interrupt);
+  const lotwise::YieldResult result = study.run(options);
+  std::signal(SIGINT, SIG_DFL);
+  progress.finish();
+  if (!report.empty()) lotwise::write_report(report, study, result);
+  if (!quiet) std::cout << lotwise::summary_table(study, result);
+  if (!report.empty() && !quiet) std::cout << "Report written to " << report << "\n";
+  if (!result.complete) return 130;
+  if (cmd.count("--require-yield") && !(result.interval.low >= require_yield)) {
+    std::cerr << "lotwise: the yield's lower confidence bound " << result.interval.low
+              << " is below the required " << require_yield << "\n";
+    return 3;
+  }
+  return 0;
+}
+
+int check_command(const std::string& path) {
+  lotwise::Study study(lotwise::load_design(path));
+  const auto& d = study.design();
+  std::cout << path << ": " << (d.title.empty() ? "(untitled)" : d.title) << "\n"
+            << d.circuit.elements().size() << " parts, " << d.circuit.nodes().size() + 1
+            << " nodes, " << study.varied_parameters().size() << " varied parameters, "
+            << d.measurements.size() << " measurements, " << d.specs.size() << " specs\n\n"
+            << "Nominal values:\n";
+  for (std::size_t i = 0; i < d.measurements.size(); ++i) {
+    std::cout << "  " << d.measurements[i].name << " = " << study.nominal_values()[i] << " "
+              << lotwise::unit_of(d.measurements[i].kind) << "\n";
+  }
+  return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  CLI::App app{"lotwise: Monte Carlo production-yield analysis of op-amp circuits"};
+  app.set_version_flag("--version", std::string("lotwise ") + lotwise::version());
+  app.require_subcommand(1);
+
+  std::string path, report;
+  std::uint64_t samples = 0, seed = 0;
+  unsigned threads = 0;
+  bool quiet = false;
+  double require_yield = 0.0;
+  auto* run = app.add_subcommand("run", "Run the Monte Carlo yield analysis of a design file");
+  run->add_option("design", path, "Design file (TOML)")->required()->check(CLI::ExistingFile);
+  run->add_option("-n,--samples", samples, "Number of builds to simulate (default: the file's [run] samples)")
+      ->check(CLI::PositiveNumber);
+  run->add_option("-s,--seed", seed, "Random seed (default: the file's [run] seed)");
+  run->add_option("-t,--threads", threads, "Worker threads, 0 for all cores; the answer does not depend on it");
+  run->add_option("-r,--report", report, "Write the JSON report to this file");
+  run->add_option("--require-yield", require_yield,
+                  "Exit with status 3 unless the yield's lower confidence bound reaches this fraction")
+      ->check(CLI::Range(0.0, 1.0));
+  run->add_flag("-q,--quiet", quiet, "Print nothing but errors");
+
+  auto* check = app.add_subcommand("check", "Check a design file and print its nominal values");
+  check->add_option("design", path, "Design file (TOML)")->required()->check(CLI::ExistingFile);
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    return app.exit(e);
+  }
+  try {
+    if (*run) return run_command(path, *run, samples, seed, threads, report, quiet, require_yield);
+    return check_command(path);
+  } catch (const lotwise::Error& e) {
+    std::cerr << "lotwise: error: " << e.what() << "\n";
+    return 1;
+  } catch (const std::exception& e) {
+    std::cerr << "lotwise: internal error: " << e.what() << "\n";
+    return 2;
+  }
+}

@@ -1,0 +1,17 @@
+#pragma once
+// Everything a program embedding lotwise needs.
+#include "lotwise/circuit.hpp"
+#include "lotwise/design.hpp"
+#include "lotwise/design_file.hpp"
+#include "lotwise/error.hpp"
+#include "lotwise/measurement.hpp"
+#include "lotwise/network.hpp"
+#include "lotwise/report.hpp"
+#include "lotwise/result.hpp"
+#include "lotwise/run_options.hpp"
+#include "lotwise/spec.hpp"
+#include "lotwise/statistics.hpp"
+#include "lotwise/study.hpp"
+#include "lotwise/units.hpp"
+#include "lotwise/variation.hpp"
+#include "lotwise/version.hpp"

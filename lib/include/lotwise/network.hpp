@@ -1,0 +1,106 @@
+#pragma once
+// The modified-nodal-analysis form of a circuit, laid out once and solved many times
+// for different parameter vectors. Thread-safe: every solve uses a caller's Workspace.
+#include <complex>
+#include <cstddef>
+#include <memory>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "lotwise/circuit.hpp"
+
+namespace lotwise {
+
+/// What drives the network in one solve.
+struct Excitation {
+  /// Independent sources at their parameter values (an operating point) when true,
+  /// at zero (a small-signal solve) when false.
+  bool sources_at_value = true;
+  /// Sources (by element index) held at a given value instead, in either case.
+  std::vector<std::pair<std::size_t, double>> overrides;
+  /// Include op-amp offset voltages and bias currents.
+  bool opamp_errors = true;
+};
+
+/// Outcome of one solve.
+enum class SolveStatus {
+  ok,
+  singular,         ///< the matrix lost rank for this parameter vector
+  invalid_value,    ///< a parameter is out of its physical range (R <= 0, ...)
+};
+
+const char* to_string(SolveStatus status);
+
+/// Scratch matrices and solutions of one thread. Made by Network::make_workspace.
+class NetworkWorkspace {
+ public:
+  struct Data;
+  explicit NetworkWorkspace(std::unique_ptr<Data> data);
+  NetworkWorkspace(NetworkWorkspace&&) noexcept;
+  NetworkWorkspace& operator=(NetworkWorkspace&&) noexcept;
+  ~NetworkWorkspace();
+  Data& data() { return *data_; }
+
+ private:
+  std::unique_ptr<Data> data_;
+};
+
+class Network {
+ public:
+  /// Lays out the MNA system and checks the topology: every node needs a DC path to
+  /// ground and no loop may consist of voltage-defined branches only. Throws
+  /// CircuitError naming the node or the elements at fault.
+  explicit Network(const Circuit& circuit);
+  ~Network();
+  Network(const Network&);
+  Network& operator=(const Network&);
+  Network(Network&&) noexcept;
+  Network& operator=(Network&&) noexcept;
+
+  const Circuit& circuit() const;
+  /// Number of unknowns: non-ground nodes plus branch currents.
+  std::size_t size() const;
+  /// Unknown index of a node (ground gives npos).
+  std::size_t node_index(const std::string& node) const;
+  /// Human-readable name of unknown i ("node 'out'", "current of U1").
+  std::string unknown_name(std::size_t i) const;
+
+  /// Per-thread scratch space with room for `slots` solutions of each kind;
+  /// solves allocate nothing once it is made.
+  NetworkWorkspace make_workspace(std::size_t slots = 1) const;
+
+  /// Checks `parameters` (one value per circuit parameter) for physical range.
+  SolveStatus check_values(const double* parameters) const;
+
+  /// Factors the DC matrix for `parameters`. Capacitors are open, inductors shorted.
+  SolveStatus factor_dc(const double* parameters, NetworkWorkspace& ws) const;
+  /// Solves the factored DC system; returns a pointer to size() unknowns held by `ws`.
+  const double* solve_dc(const double* parameters, const Excitation& excitation,
+                         NetworkWorkspace& ws, std::size_t slot = 0) const;
+
+  /// Factors the small-signal matrix at `frequency` Hz.
+  SolveStatus factor_ac(const double* parameters, double frequency, NetworkWorkspace& ws) const;
+  const std::complex<double>* solve_ac(const double* parameters, const Excitation& excitation,
+                                       NetworkWorkspace& ws, std::size_t slot = 0) const;
+
+  /// Convenience: node voltages of a DC operating point, by node order of circuit().nodes().
+  /// Throws CircuitError if the network is singular for these values.
+  std::vector<double> operating_point(const std::vector<double>& parameters) const;
+  /// Convenience: V(out_plus) - V(out_minus) for a unit drive on `source` at `frequency`.
+  std::complex<double> transfer(const std::vector<double>& parameters, const std::string& source,
+                                const std::string& out_plus, const std::string& out_minus,
+                                double frequency) const;
+
+  /// Why the nominal network is singular, in words, naming the unknowns involved.
+  std::string diagnose_singular(const double* parameters, double frequency) const;
+
+  static constexpr std::size_t npos = static_cast<std::size_t>(-1);
+
+  struct Layout;  ///< opaque: the compiled stamps (private to the library)
+
+ private:
+  std::unique_ptr<Layout> layout_;
+};
+
+}  // namespace lotwise

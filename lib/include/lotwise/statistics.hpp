@@ -1,0 +1,45 @@
+#pragma once
+// Streaming moments and binomial confidence intervals.
+#include <cstdint>
+#include <limits>
+
+namespace lotwise {
+
+/// Mean, variance, minimum and maximum in one pass (Welford), mergeable in a fixed
+/// order (Chan et al.) so that chunked runs give the same bits on any thread count.
+/// Non-finite values are counted apart and do not enter the moments.
+class RunningStats {
+ public:
+  void add(double x);
+  void merge(const RunningStats& other);
+
+  std::uint64_t count() const { return count_; }          ///< finite values
+  std::uint64_t non_finite() const { return non_finite_; }  ///< +-inf and NaN values
+  double mean() const;
+  /// Sample standard deviation (n - 1 in the denominator); NaN below two values.
+  double std_dev() const;
+  double min() const { return min_; }
+  double max() const { return max_; }
+
+ private:
+  std::uint64_t count_ = 0;
+  std::uint64_t non_finite_ = 0;
+  double mean_ = 0.0;
+  double m2_ = 0.0;
+  double min_ = std::numeric_limits<double>::infinity();
+  double max_ = -std::numeric_limits<double>::infinity();
+};
+
+struct Interval {
+  double low = 0.0;
+  double high = 1.0;
+};
+
+/// Exact (Clopper-Pearson) two-sided interval for a binomial proportion k / n at the
+/// given confidence level, from beta quantiles (Boost.Math). n must be > 0.
+Interval clopper_pearson(std::uint64_t k, std::uint64_t n, double confidence = 0.95);
+
+/// Wilson score interval.
+Interval wilson(std::uint64_t k, std::uint64_t n, double confidence = 0.95);
+
+}  // namespace lotwise

@@ -1,0 +1,6 @@
+#pragma once
+
+namespace lotwise {
+/// The library's version, "MAJOR.MINOR.PATCH".
+const char* version();
+}  // namespace lotwise

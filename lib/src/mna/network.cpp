@@ -1,0 +1,429 @@
+#include "lotwise/network.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "lotwise/error.hpp"
+#include "mna/layout.hpp"
+
+namespace lotwise {
+
+using detail::MatrixStamp;
+using detail::StampKind;
+
+const char* to_string(SolveStatus status) {
+  switch (status) {
+    case SolveStatus::ok: return "ok";
+    case SolveStatus::singular: return "singular";
+    case SolveStatus::invalid_value: return "invalid_value";
+  }
+  return "?";
+}
+
+NetworkWorkspace::NetworkWorkspace(std::unique_ptr<Data> data) : data_(std::move(data)) {}
+NetworkWorkspace::NetworkWorkspace(NetworkWorkspace&&) noexcept = default;
+NetworkWorkspace& NetworkWorkspace::operator=(NetworkWorkspace&&) noexcept = default;
+NetworkWorkspace::~NetworkWorkspace() = default;
+
+std::size_t Network::Layout::node(const std::string& name) const {
+  if (name == circuit.ground()) return npos;
+  const auto& names = circuit.nodes();
+  const auto it = std::find(names.begin(), names.end(), name);
+  return it == names.end() ? npos : static_cast<std::size_t>(it - names.begin());
+}
+
+namespace {
+
+bool has_branch(ElementKind kind) {
+  return kind == ElementKind::voltage_source || kind == ElementKind::inductor ||
+         kind == ElementKind::vcvs || kind == ElementKind::ccvs || kind == ElementKind::opamp;
+}
+
+// Collects stamps, dropping those that touch ground.
+struct StampSink {
+  Network::Layout& layout;
+  void matrix(std::size_t row, std::size_t col, StampKind kind, std::size_t p, double sign,
+              std::size_t q = 0, OpAmpModel model = OpAmpModel::ideal) {
+    if (row == Network::npos || col == Network::npos) return;
+    layout.matrix.push_back(MatrixStamp{row, col, kind, p, q, sign, model});
+  }
+  // A two-terminal admittance-like stamp between nodes a and b.
+  void admittance(std::size_t a, std::size_t b, StampKind kind, std::size_t p) {
+    matrix(a, a, kind, p, 1.0);
+    matrix(b, b, kind, p, 1.0);
+    matrix(a, b, kind, p, -1.0);
+    matrix(b, a, kind, p, -1.0);
+  }
+  // Branch current k leaves node a and enters node b; row k reads V(a) - V(b).
+  void branch(std::size_t a, std::size_t b, std::size_t k) {
+    matrix(a, k, StampKind::constant, 0, 1.0);
+    matrix(b, k, StampKind::constant, 0, -1.0);
+    matrix(k, a, StampKind::constant, 0, 1.0);
+    matrix(k, b, StampKind::constant, 0, -1.0);
+  }
+  void source(std::size_t row, std::size_t element, std::size_t p, double sign) {
+    if (row == Network::npos) return;
+    layout.sources.push_back(detail::SourceStamp{row, element, p, sign});
+  }
+  void error(std::size_t row, std::size_t p, double sign) {
+    if (row == Network::npos) return;
+    layout.errors.push_back(detail::ErrorStamp{row, p, sign});
+  }
+};
+
+double real_stamp(const MatrixStamp& s, const double* theta) {
+  switch (s.kind) {
+    case StampKind::constant: return s.sign;
+    case StampKind::conductance: return s.sign / theta[s.p];
+    case StampKind::value: return s.sign * theta[s.p];
+    case StampKind::susceptance:
+    case StampKind::reactance: return 0.0;
+    case StampKind::inverse_gain:
+      return s.model == OpAmpModel::ideal ? 0.0 : s.sign / theta[s.p];
+  }
+  return 0.0;
+}
+
+std::complex<double> complex_stamp(const MatrixStamp& s, const double* theta, double frequency) {
+  constexpr double two_pi = 6.283185307179586476925;
+  switch (s.kind) {
+    case StampKind::susceptance:
+    case StampKind::reactance:
+      return {0.0, s.sign * two_pi * frequency * theta[s.p]};
+    case StampKind::inverse_gain:
+      switch (s.model) {
+        case OpAmpModel::ideal: return 0.0;
+        case OpAmpModel::finite_gain: return s.sign / theta[s.p];
+        // 1/A(jw) = 1/A0 + j f / GBW for A(s) = A0 / (1 + s A0 / (2 pi GBW)).
+        case OpAmpModel::single_pole:
+          return {s.sign / theta[s.p], s.sign * frequency / theta[s.q]};
+      }
+      return 0.0;
+    default: return real_stamp(s, theta);
+  }
+}
+
+// A pivot this small against the largest matrix entry means the draw is singular
+// (the nominal check diagnoses why).
+template <typename Lu, typename Matrix>
+SolveStatus pivot_status(const Lu& lu, const Matrix& a) {
+  const auto n = a.rows();
+  if (n == 0) return SolveStatus::ok;
+  const double scale = a.cwiseAbs().maxCoeff();
+  if (!std::isfinite(scale)) return SolveStatus::invalid_value;
+  const double tiny = static_cast<double>(n) * std::numeric_limits<double>::epsilon() * scale;
+  const auto& m = lu.matrixLU();
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const double pivot = std::abs(m(i, i));
+    if (!(pivot > tiny)) return SolveStatus::singular;
+  }
+  return SolveStatus::ok;
+}
+
+}  // namespace
+
+Network::Network(const Circuit& circuit) : layout_(std::make_unique<Layout>()) {
+  Layout& L = *layout_;
+  L.circuit = circuit;
+  detail::check_topology(circuit);
+
+  const auto& elements = circuit.elements();
+  L.nodes = circuit.nodes().size();
+  for (const auto& n : circuit.nodes()) L.unknown_names.push_back("node '" + n + "'");
+  L.branch_of_element.assign(elements.size(), npos);
+  std::size_t next = L.nodes;
+  for (std::size_t e = 0; e < elements.size(); ++e) {
+    if (!has_branch(elements[e].kind)) continue;
+    L.branch_of_element[e] = next++;
+    L.unknown_names.push_back(elements[e].kind == ElementKind::opamp
+                                  ? "output current of " + elements[e].name
+                                  : "current through " + elements[e].name);
+  }
+  L.size = next;
+
+  auto control_branch = [&](const Element& el) {
+    const std::size_t c = circuit.find_element(el.control_source);
+    if (c == Circuit::npos || elements[c].kind != ElementKind::voltage_source) {
+      throw CircuitError("element '" + el.name + "' (" + to_string(el.kind) +
+                         ") is controlled by the current of '" + el.control_source +
+                         "', which is not a voltage source in this circuit");
+    }
+    return L.branch_of_element[c];
+  };
+
+  StampSink sink{L};
+  for (std::size_t e = 0; e < elements.size(); ++e) {
+    const Element& el = elements[e];
+    const std::size_t p = el.parameters.front();
+    const std::size_t a = L.node(el.nodes[0]);
+    const std::size_t b = L.node(el.nodes[1]);
+    const std::size_t k = L.branch_of_element[e];
+    switch (el.kind) {
+      case ElementKind::resistor: sink.admittance(a, b, StampKind::conductance, p); break;
+      case ElementKind::capacitor: sink.admittance(a, b, StampKind::susceptance, p); break;
+      case ElementKind::inductor:
+        sink.branch(a, b, k);
+        sink.matrix(k, k, StampKind::reactance, p, -1.0);
+        break;
+      case ElementKind::voltage_source:
+        sink.branch(a, b, k);
+        sink.source(k, e, p, 1.0);
+        break;
+      case ElementKind::current_source:
+        sink.source(a, e, p, -1.0);
+        sink.source(b, e, p, 1.0);
+        break;
+      case ElementKind::vcvs: {
+        const std::size_t cp = L.node(el.control_nodes[0]);
+        const std::size_t cn = L.node(el.control_nodes[1]);
+        sink.branch(a, b, k);
+        sink.matrix(k, cp, StampKind::value, p, -1.0);
+        sink.matrix(k, cn, StampKind::value, p, 1.0);
+        break;
+      }
+      case ElementKind::vccs: {
+        const std::size_t cp = L.node(el.control_nodes[0]);
+        const std::size_t cn = L.node(el.control_nodes[1]);
+        sink.matrix(a, cp, StampKind::value, p, 1.0);
+        sink.matrix(a, cn, StampKind::value, p, -1.0);
+        sink.matrix(b, cp, StampKind::value, p, -1.0);
+        sink.matrix(b, cn, StampKind::value, p, 1.0);
+        break;
+      }
+      case ElementKind::ccvs: {
+        const std::size_t kc = control_branch(el);
+        sink.branch(a, b, k);
+        sink.matrix(k, kc, StampKind::value, p, -1.0);
+        break;
+      }
+      case ElementKind::cccs: {
+        const std::size_t kc = control_branch(el);
+        sink.matrix(a, kc, StampKind::value, p, 1.0);
+        sink.matrix(b, kc, StampKind::value, p, -1.0);
+        break;
+      }
+      case ElementKind::opamp: {
+        // Row k: V(+) - V(-) - V(out)/A = -Vos; the output current k enters node out.
+        const std::size_t out = L.node(el.nodes[2]);
+        const std::size_t a0 = el.parameters[0];
+        const std::size_t gbw = el.parameters[1];
+        sink.matrix(out, k, StampKind::constant, 0, -1.0);
+        sink.matrix(k, a, StampKind::constant, 0, 1.0);
+        sink.matrix(k, b, StampKind::constant, 0, -1.0);
+        sink.matrix(k, out, StampKind::inverse_gain, a0, -1.0, gbw, el.model);
+        sink.error(k, el.parameters[2], -1.0);  // offset
+        sink.error(a, el.parameters[3], -1.0);  // bias current drawn from the + input
+        sink.error(b, el.parameters[4], -1.0);  // bias current drawn from the - input
+        break;
+      }
+    }
+  }
+}
+
+Network::~Network() = default;
+Network::Network(const Network& other) : layout_(std::make_unique<Layout>(*other.layout_)) {}
+Network& Network::operator=(const Network& other) {
+  if (this != &other) layout_ = std::make_unique<Layout>(*other.layout_);
+  return *this;
+}
+Network::Network(Network&&) noexcept = default;
+Network& Network::operator=(Network&&) noexcept = default;
+
+const Circuit& Network::circuit() const { return layout_->circuit; }
+std::size_t Network::size() const { return layout_->size; }
+std::size_t Network::node_index(const std::string& node) const { return layout_->node(node); }
+std::string Network::unknown_name(std::size_t i) const { return layout_->unknown_names.at(i); }
+
+NetworkWorkspace Network::make_workspace(std::size_t slots) const {
+  const auto n = static_cast<Eigen::Index>(layout_->size);
+  const auto s = static_cast<Eigen::Index>(std::max<std::size_t>(slots, 1));
+  auto d = std::make_unique<NetworkWorkspace::Data>();
+  d->a = Eigen::MatrixXd::Zero(n, n);
+  d->lu = Eigen::PartialPivLU<Eigen::MatrixXd>(n);
+  d->rhs = Eigen::VectorXd::Zero(n);
+  d->x = Eigen::MatrixXd::Zero(n, s);
+  d->ac = Eigen::MatrixXcd::Zero(n, n);
+  d->ac_lu = Eigen::PartialPivLU<Eigen::MatrixXcd>(n);
+  d->ac_rhs = Eigen::VectorXcd::Zero(n);
+  d->ac_x = Eigen::MatrixXcd::Zero(n, s);
+  return NetworkWorkspace(std::move(d));
+}
+
+SolveStatus Network::check_values(const double* parameters) const {
+  const auto& params = layout_->circuit.parameters();
+  for (std::size_t i = 0; i < params.size(); ++i) {
+    const double v = parameters[i];
+    if (!std::isfinite(v) || (params[i].positive && !(v > 0.0))) return SolveStatus::invalid_value;
+  }
+  return SolveStatus::ok;
+}
+
+SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws) const {
+  auto& d = ws.data();
+  const SolveStatus values = check_values(parameters);
+  if (values != SolveStatus::ok) return values;
+  d.a.setZero();
+  for (const auto& s : layout_->matrix) {
+    d.a(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
+        real_stamp(s, parameters);
+  }
+  if (layout_->size == 0) return SolveStatus::ok;
+  d.lu.compute(d.a);
+  return pivot_status(d.lu, d.a);
+}
+
+SolveStatus Network::factor_ac(const double* parameters, double frequency,
+                               NetworkWorkspace& ws) const {
+  auto& d = ws.data();
+  const SolveStatus values = check_values(parameters);
+  if (values != SolveStatus::ok) return values;
+  d.ac.setZero();
+  for (const auto& s : layout_->matrix) {
+    d.ac(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
+        complex_stamp(s, parameters, frequency);
+  }
+  d.frequency = frequency;
+  if (layout_->size == 0) return SolveStatus::ok;
+  d.ac_lu.compute(d.ac);
+  return pivot_status(d.ac_lu, d.ac);
+}
+
+namespace {
+
+template <typename Vector>
+void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, Vector& rhs) {
+  rhs.setZero();
+  for (const auto& s : L.sources) {
+    double value = ex.sources_at_value ? theta[s.p] : 0.0;
+    for (const auto& o : ex.overrides) {
+      if (o.first == s.element) value = o.second;
+    }
+    rhs(static_cast<Eigen::Index>(s.row)) += s.sign * value;
+  }
+  if (ex.opamp_errors) {
+    for (const auto& s : L.errors) rhs(static_cast<Eigen::Index>(s.row)) += s.sign * theta[s.p];
+  }
+}
+
+}  // namespace
+
+const double* Network::solve_dc(const double* parameters, const Excitation& excitation,
+                                NetworkWorkspace& ws, std::size_t slot) const {
+  auto& d = ws.data();
+  fill_rhs(*layout_, parameters, excitation, d.rhs);
+  auto column = d.x.col(static_cast<Eigen::Index>(slot));
+  if (layout_->size > 0) column.noalias() = d.lu.solve(d.rhs);
+  return column.data();
+}
+
+const std::complex<double>* Network::solve_ac(const double* parameters,
+                                              const Excitation& excitation, NetworkWorkspace& ws,
+                                              std::size_t slot) const {
+  auto& d = ws.data();
+  fill_rhs(*layout_, parameters, excitation, d.ac_rhs);
+  auto column = d.ac_x.col(static_cast<Eigen::Index>(slot));
+  if (layout_->size > 0) column.noalias() = d.ac_lu.solve(d.ac_rhs);
+  return column.data();
+}
+
+std::string Network::diagnose_singular(const double* parameters, double frequency) const {
+  std::ostringstream out;
+  const SolveStatus values = check_values(parameters);
+  if (values != SolveStatus::ok) {
+    const auto& params = layout_->circuit.parameters();
+    for (std::size_t i = 0; i < params.size(); ++i) {
+      const double v = parameters[i];
+      if (!std::isfinite(v) || (params[i].positive && !(v > 0.0))) {
+        out << "parameter '" << params[i].name << "' has the value " << v
+            << ", outside its physical range";
+        return out.str();
+      }
+    }
+  }
+  auto ws = make_workspace();
+  Eigen::MatrixXcd a;
+  if (frequency == 0.0) {
+    factor_dc(parameters, ws);
+    a = ws.data().a.cast<std::complex<double>>();
+  } else {
+    factor_ac(parameters, frequency, ws);
+    a = ws.data().ac;
+  }
+  Eigen::FullPivLU<Eigen::MatrixXcd> full(a);
+  full.setThreshold(static_cast<double>(a.rows()) * std::numeric_limits<double>::epsilon() * 4);
+  const Eigen::MatrixXcd kernel = full.kernel();
+  out << "the circuit equations are singular";
+  if (frequency != 0.0) out << " at " << frequency << " Hz";
+  if (kernel.cols() > 0 && kernel.norm() > 0) {
+    const Eigen::VectorXcd v = kernel.col(0);
+    const double biggest = v.cwiseAbs().maxCoeff();
+    out << ": nothing fixes ";
+    bool first = true;
+    for (Eigen::Index i = 0; i < v.size(); ++i) {
+      if (std::abs(v(i)) < 0.1 * biggest) continue;
+      out << (first ? "" : ", ") << layout_->unknown_names[static_cast<std::size_t>(i)];
+      first = false;
+    }
+  }
+  out << ". Common causes: an op-amp with no negative feedback path asked for a linear "
+         "measurement, a current source with no other path for its current, or a "
+         "controlled source that cancels a branch";
+  return out.str();
+}
+
+std::vector<double> Network::operating_point(const std::vector<double>& parameters) const {
+  if (parameters.size() != layout_->circuit.parameters().size()) {
+    throw Error("operating_point: expected " +
+                std::to_string(layout_->circuit.parameters().size()) + " parameter values, got " +
+                std::to_string(parameters.size()));
+  }
+  auto ws = make_workspace();
+  if (factor_dc(parameters.data(), ws) != SolveStatus::ok) {
+    throw CircuitError(diagnose_singular(parameters.data(), 0.0));
+  }
+  const double* x = solve_dc(parameters.data(), Excitation{}, ws);
+  return std::vector<double>(x, x + layout_->nodes);
+}
+
+std::complex<double> Network::transfer(const std::vector<double>& parameters,
+                                       const std::string& source, const std::string& out_plus,
+                                       const std::string& out_minus, double frequency) const {
+  if (parameters.size() != layout_->circuit.parameters().size()) {
+    throw Error("transfer: expected " + std::to_string(layout_->circuit.parameters().size()) +
+                " parameter values, got " + std::to_string(parameters.size()));
+  }
+  const std::size_t src = layout_->circuit.find_element(source);
+  if (src == Circuit::npos) throw DesignError("transfer: no element called '" + source + "'");
+  const auto kind = layout_->circuit.elements()[src].kind;
+  if (kind != ElementKind::voltage_source && kind != ElementKind::current_source) {
+    throw DesignError("transfer: '" + source + "' is not an independent source");
+  }
+  for (const auto* node : {&out_plus, &out_minus}) {
+    if (!layout_->circuit.has_node(*node)) {
+      throw DesignError("transfer: no node called '" + *node + "'");
+    }
+  }
+  Excitation ex;
+  ex.sources_at_value = false;
+  ex.opamp_errors = false;
+  ex.overrides = {{src, 1.0}};
+  const std::size_t p = layout_->node(out_plus);
+  const std::size_t m = layout_->node(out_minus);
+  auto ws = make_workspace();
+  if (frequency == 0.0) {
+    if (factor_dc(parameters.data(), ws) != SolveStatus::ok) {
+      throw CircuitError(diagnose_singular(parameters.data(), 0.0));
+    }
+    const double* x = solve_dc(parameters.data(), ex, ws);
+    return (p == npos ? 0.0 : x[p]) - (m == npos ? 0.0 : x[m]);
+  }
+  if (factor_ac(parameters.data(), frequency, ws) != SolveStatus::ok) {
+    throw CircuitError(diagnose_singular(parameters.data(), frequency));
+  }
+  const std::complex<double>* x = solve_ac(parameters.data(), ex, ws);
+  return (p == npos ? 0.0 : x[p]) - (m == npos ? 0.0 : x[m]);
+}
+
+}  // namespace lotwise

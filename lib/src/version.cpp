@@ -1,0 +1,5 @@
+#include "lotwise/version.hpp"
+
+namespace lotwise {
+const char* version() { return LOTWISE_VERSION_STRING; }
+}  // namespace lotwise
