@@ -102,8 +102,16 @@ int main(int argc, char** argv) {
   double require_yield = 0.0;
   auto* run = app.add_subcommand("run", "Run the Monte Carlo yield analysis of a design file");
   run->add_option("design", path, "Design file (TOML)")->required()->check(CLI::ExistingFile);
+  const CLI::Validator at_least_one(
+      [](std::string& text) {
+        return text.find_first_not_of("0123456789") == std::string::npos && !text.empty() &&
+                       text.find_first_not_of('0') != std::string::npos
+                   ? std::string()
+                   : "must be a whole number of at least 1, got '" + text + "'";
+      },
+      "N>=1");
   run->add_option("-n,--samples", samples, "Number of builds to simulate (default: the file's [run] samples)")
-      ->check(CLI::PositiveNumber);
+      ->check(at_least_one);
   run->add_option("-s,--seed", seed, "Random seed (default: the file's [run] seed)");
   run->add_option("-t,--threads", threads, "Worker threads, 0 for all cores; the answer does not depend on it");
   run->add_option("-r,--report", report, "Write the JSON report to this file");
@@ -118,7 +126,8 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    return app.exit(e);
+    const int status = app.exit(e);
+    return status == 0 ? 0 : 2;  // --help and --version succeed; usage errors are status 2
   }
   try {
     if (*run) return run_command(path, *run, samples, seed, threads, report, quiet, require_yield);
@@ -128,6 +137,6 @@ int main(int argc, char** argv) {
     return 1;
   } catch (const std::exception& e) {
     std::cerr << "lotwise: internal error: " << e.what() << "\n";
-    return 2;
+    return 4;
   }
 }
