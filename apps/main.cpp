@@ -7,6 +7,7 @@
 #include <cstdio>
 #include <iostream>
 #include <string>
+#include <utility>
 
 #include <CLI/CLI.hpp>
 
@@ -45,10 +46,23 @@ class ProgressLine {
   std::chrono::steady_clock::time_point last_{};
 };
 
+// Errors found while compiling the study (topology, singular network, overlapping
+// variations) carry no file position; prefix the file so the message says which design.
+lotwise::Study compile(const std::string& path) {
+  lotwise::Design design = lotwise::load_design(path);
+  try {
+    return lotwise::Study(std::move(design));
+  } catch (const lotwise::CircuitError& e) {
+    throw lotwise::CircuitError(path + ": " + e.what());
+  } catch (const lotwise::DesignError& e) {
+    throw lotwise::DesignError(path + ": " + e.what());
+  }
+}
+
 int run_command(const std::string& path, const CLI::App& cmd, std::uint64_t samples,
                 std::uint64_t seed, unsigned threads, const std::string& report, bool quiet,
                 double require_yield) {
-  lotwise::Study study(lotwise::load_design(path));
+  lotwise::Study study = compile(path);
   lotwise::RunOptions options;
   const auto& defaults = study.design().run;
   options.samples = cmd.count("--samples") ? samples : defaults.samples;
@@ -74,7 +88,7 @@ int run_command(const std::string& path, const CLI::App& cmd, std::uint64_t samp
 }
 
 int check_command(const std::string& path) {
-  lotwise::Study study(lotwise::load_design(path));
+  lotwise::Study study = compile(path);
   const auto& d = study.design();
   std::cout << path << ": " << (d.title.empty() ? "(untitled)" : d.title) << "\n"
             << d.circuit.elements().size() << " parts, " << d.circuit.nodes().size() + 1

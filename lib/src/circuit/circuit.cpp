@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <utility>
 
 #include "lotwise/error.hpp"
@@ -45,8 +46,11 @@ void check_value(const std::string& parameter, const std::string& unit, double v
     throw DesignError("parameter '" + parameter + "': value must be a finite number");
   }
   if (must_be_positive(unit) && !(value > 0.0)) {
+    // %g, not std::to_string: fixed six decimals would show -1 pF as "-0.000000".
+    char shown[32];
+    std::snprintf(shown, sizeof shown, "%g", value);
     throw DesignError("parameter '" + parameter + "': value must be greater than zero (got " +
-                      std::to_string(value) + " " + unit + ")");
+                      shown + " " + unit + ")");
   }
 }
 

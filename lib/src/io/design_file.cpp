@@ -277,6 +277,7 @@ Design read(const toml::table& root, const Reader& r) {
   if (const auto* n = root.get("vary")) {
     if (!n->is_array_of_tables()) r.fail(n, "vary must be written as [[vary]] tables");
     std::size_t index = 0;
+    std::map<std::size_t, std::size_t> spread_by;  // parameter -> [[vary]] number
     for (const auto& item : *n->as_array()) {
       const std::string where = "[[vary]] number " + std::to_string(++index);
       const toml::table& t = *item.as_table();
@@ -291,10 +292,21 @@ Design read(const toml::table& root, const Reader& r) {
         if (v.distribution != Distribution::normal) r.fail(s, where + ": sigmas applies to the normal distribution only");
         v.sigmas = r.number(*s, where + ": sigmas");
       }
+      std::vector<std::size_t> targets;
       try {
-        detail::resolve_targets(design.circuit, v);
+        targets = detail::resolve_targets(design.circuit, v);
       } catch (const DesignError& e) {
         r.fail(&item, where + ": " + e.what());
+      }
+      for (const std::size_t p : targets) {
+        const auto it = spread_by.find(p);
+        if (it != spread_by.end()) {
+          r.fail(&item, "parameter '" + design.circuit.parameters()[p].name +
+                            "' is spread by both [[vary]] number " + std::to_string(it->second) +
+                            " and [[vary]] number " + std::to_string(index) +
+                            "; give each parameter one variation");
+        }
+        spread_by[p] = index;
       }
       design.variations.push_back(v);
     }

@@ -42,7 +42,7 @@ std::string pad(const std::string& s, std::size_t width) {
 std::string summary_table(const Study& study, const YieldResult& r) {
   std::ostringstream out;
   const std::string title = study.design().title.empty() ? "(untitled design)" : study.design().title;
-  out << "lotwise " << title << "\n";
+  out << "lotwise yield analysis: " << title << "\n";
   out << r.samples << " samples, seed " << r.seed;
   if (!r.complete) out << "  (stopped early: " << r.samples << " of " << r.requested << ")";
   out << "\n\n";

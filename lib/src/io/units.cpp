@@ -4,6 +4,7 @@
 #include <charconv>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <string>
 
 #include "lotwise/error.hpp"
@@ -49,13 +50,15 @@ bool is_unit_word(std::string_view s) {
 // RKM code: digits, one of R k M G m u n p, digits ("4k7", "2R2", "1M5").
 bool parse_rkm(std::string_view s, double& out) {
   const std::size_t at = s.find_first_of("RkMGmunp");
-  if (at == std::string_view::npos || at == 0 || at + 1 >= s.size()) return false;
+  // The letter marks the decimal point; it may lead ("R47" = 0.47) but not trail.
+  if (at == std::string_view::npos || at + 1 >= s.size()) return false;
   for (std::size_t i = 0; i < s.size(); ++i) {
     if (i != at && (s[i] < '0' || s[i] > '9')) return false;
   }
   std::size_t len = 0;
   const double scale = s[at] == 'R' ? 1.0 : prefix(s.substr(at), len);
-  const std::string digits = std::string(s.substr(0, at)) + "." + std::string(s.substr(at + 1));
+  const std::string digits =
+      (at == 0 ? std::string("0") : std::string(s.substr(0, at))) + "." + std::string(s.substr(at + 1));
   double value = 0.0;
   std::from_chars(digits.data(), digits.data() + digits.size(), value);
   out = value * scale;
@@ -118,8 +121,15 @@ std::string format_si(double value, int digits) {
   static const char* prefixes[] = {"f", "p", "n", "u", "m", "", "k", "M", "G", "T"};
   int exponent = static_cast<int>(std::floor(std::log10(std::abs(value)) / 3.0));
   exponent = std::max(-5, std::min(4, exponent));
-  const double scaled = value / std::pow(10.0, 3 * exponent);
+  double scaled = value / std::pow(10.0, 3 * exponent);
   char buf[48];
+  // Rounding to `digits` may carry 999.96 up to 1000 (printed "1e+03" by %g): show
+  // that as 1 with the next prefix.
+  std::snprintf(buf, sizeof buf, "%.*g", digits, scaled);
+  if (std::abs(std::strtod(buf, nullptr)) >= 1000.0 && exponent < 4) {
+    ++exponent;
+    scaled = value / std::pow(10.0, 3 * exponent);
+  }
   std::snprintf(buf, sizeof buf, "%.*g%s", digits, scaled, prefixes[exponent + 5]);
   return buf;
 }

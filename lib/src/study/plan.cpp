@@ -2,6 +2,7 @@
 
 #include <cmath>
 #include <cstdint>
+#include <cstdio>
 #include <limits>
 #include <string>
 
@@ -181,8 +182,12 @@ void validate_spec(const std::vector<Measurement>& measurements, const Spec& spe
     throw DesignError("spec on '" + spec.measurement + "' has neither a min nor a max limit");
   }
   if (spec.min > spec.max) {
-    throw DesignError("spec on '" + spec.measurement + "': min (" + std::to_string(spec.min) +
-                      ") is above max (" + std::to_string(spec.max) + ")");
+    // %g, not std::to_string: fixed six decimals would show 5e-7 as "0.000000".
+    char min[32], max[32];
+    std::snprintf(min, sizeof min, "%g", spec.min);
+    std::snprintf(max, sizeof max, "%g", spec.max);
+    throw DesignError("spec on '" + spec.measurement + "': min (" + min + ") is above max (" +
+                      max + ")");
   }
 }
 
