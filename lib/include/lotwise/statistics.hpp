@@ -7,7 +7,8 @@ namespace lotwise {
 
 /// Mean, variance, minimum and maximum in one pass (Welford), mergeable in a fixed
 /// order (Chan et al.) so that chunked runs give the same bits on any thread count.
-/// Non-finite values are counted apart and do not enter the moments.
+/// Non-finite values are counted apart and do not enter the moments; an infinite value
+/// (a CMRR with zero common-mode gain) still sets min or max, a NaN never does.
 class RunningStats {
  public:
   void add(double x);
