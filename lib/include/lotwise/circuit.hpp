@@ -2,6 +2,7 @@
 // A circuit as drawn: named nodes, elements and their nominal parameter values.
 // Mutable while it is built; compile it into a Study to evaluate it.
 #include <cstddef>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -35,11 +36,24 @@ struct OpAmpSpec {
   double offset = 0.0;          ///< input offset voltage, V, in series with the + input
   double bias_plus = 0.0;       ///< bias current into the + input, A
   double bias_minus = 0.0;      ///< bias current into the - input, A
+
+  /// Output limits. The output reaches supply_high - headroom_high and
+  /// supply_low + headroom_low; output_high / output_low, when finite, state a level
+  /// directly instead (give one form per side). Infinite supplies, the default, leave
+  /// that side unlimited, so the op-amp never saturates there.
+  double supply_high = std::numeric_limits<double>::infinity();   ///< V
+  double supply_low = -std::numeric_limits<double>::infinity();   ///< V
+  double headroom_high = 0.0;  ///< how far below supply_high the output can go, V (>= 0)
+  double headroom_low = 0.0;   ///< how far above supply_low the output can go, V (>= 0)
+  double output_high = std::numeric_limits<double>::infinity();   ///< explicit high level, V
+  double output_low = -std::numeric_limits<double>::infinity();   ///< explicit low level, V
 };
 
 /// One parameter of the circuit that a variation may move. A passive part's or a
 /// source's value is named after the element ("R1", "VREF"); op-amp parameters are
-/// "U1.open_loop_gain", "U1.gain_bandwidth", "U1.offset", "U1.bias_plus", "U1.bias_minus".
+/// "U1.open_loop_gain", "U1.gain_bandwidth", "U1.offset", "U1.bias_plus", "U1.bias_minus",
+/// and, for a limited output, "U1.supply_high" with "U1.headroom_high" or "U1.output_high"
+/// (likewise for the low side).
 struct Parameter {
   std::string name;
   double nominal = 0.0;

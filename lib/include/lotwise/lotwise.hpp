@@ -1,11 +1,16 @@
 #pragma once
 // Everything a program embedding lotwise needs.
+#include "lotwise/capability.hpp"
 #include "lotwise/circuit.hpp"
+#include "lotwise/dc_sweep.hpp"
 #include "lotwise/design.hpp"
 #include "lotwise/design_file.hpp"
 #include "lotwise/error.hpp"
+#include "lotwise/histogram.hpp"
 #include "lotwise/measurement.hpp"
 #include "lotwise/network.hpp"
+#include "lotwise/parameter_sweep.hpp"
+#include "lotwise/preferred_values.hpp"
 #include "lotwise/report.hpp"
 #include "lotwise/result.hpp"
 #include "lotwise/run_options.hpp"
@@ -15,3 +20,4 @@
 #include "lotwise/units.hpp"
 #include "lotwise/variation.hpp"
 #include "lotwise/version.hpp"
+#include "lotwise/worst_case.hpp"

@@ -21,6 +21,16 @@ struct Excitation {
   std::vector<std::pair<std::size_t, double>> overrides;
   /// Include op-amp offset voltages and bias currents.
   bool opamp_errors = true;
+  /// Levels, in volts, of op-amp outputs held by the factorisation (see Network::factor_dc):
+  /// (element index, level). A held output not listed is held at 0 V; a level for an output
+  /// that is not held is ignored.
+  std::vector<std::pair<std::size_t, double>> output_levels = {};
+};
+
+/// The levels an op-amp's output can reach; -inf / +inf on an unlimited side.
+struct OutputLimits {
+  double low;
+  double high;
 };
 
 /// Outcome of one solve.
@@ -75,6 +85,13 @@ class Network {
 
   /// Factors the DC matrix for `parameters`. Capacitors are open, inductors shorted.
   SolveStatus factor_dc(const double* parameters, NetworkWorkspace& ws) const;
+  /// Factors the DC matrix with the outputs of the op-amps in `held_outputs` (element
+  /// indices) held at fixed levels: each one's branch equation V(+) - V(-) - V(out)/A = -Vos
+  /// is replaced by V(out) = level, the level coming from each solve's
+  /// Excitation::output_levels. Its output current stays an unknown. Used for trip points
+  /// (an op-amp at a limit) and the saturating sweep. Allocates nothing.
+  SolveStatus factor_dc(const double* parameters, NetworkWorkspace& ws,
+                        const std::vector<std::size_t>& held_outputs) const;
   /// Solves the factored DC system; returns a pointer to size() unknowns held by `ws`.
   const double* solve_dc(const double* parameters, const Excitation& excitation,
                          NetworkWorkspace& ws, std::size_t slot = 0) const;
@@ -92,8 +109,15 @@ class Network {
                                 const std::string& out_plus, const std::string& out_minus,
                                 double frequency) const;
 
-  /// Why the nominal network is singular, in words, naming the unknowns involved.
-  std::string diagnose_singular(const double* parameters, double frequency) const;
+  /// Output limits of op-amp `element` for `parameters` (-inf / +inf where unlimited).
+  OutputLimits output_limits(const double* parameters, std::size_t element) const;
+  /// True if op-amp `element` has a finite high and a finite low output limit.
+  bool has_output_limits(std::size_t element) const;
+
+  /// Why the nominal network is singular, in words, naming the unknowns involved;
+  /// `held_outputs` as for factor_dc (DC only).
+  std::string diagnose_singular(const double* parameters, double frequency,
+                                const std::vector<std::size_t>& held_outputs = {}) const;
 
   static constexpr std::size_t npos = static_cast<std::size_t>(-1);
 

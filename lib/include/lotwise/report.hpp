@@ -21,4 +21,20 @@ void write_report(const std::string& path, const Study& study, const YieldResult
 /// A plain-text summary: yield with its interval, each spec and each measurement.
 std::string summary_table(const Study& study, const YieldResult& result);
 
+struct WorstCaseResult;
+struct ParameterSweepResult;
+
+/// Optional sections of the JSON report (docs/report-format.md): the worst-case analysis
+/// (lotwise/worst_case.hpp) and a parameter sweep (lotwise/parameter_sweep.hpp).
+struct ReportSections {
+  const WorstCaseResult* worst_case = nullptr;
+  const ParameterSweepResult* sweep = nullptr;
+};
+
+/// The report with the given optional sections.
+std::string report_json(const Study& study, const YieldResult& result,
+                        const ReportSections& sections);
+void write_report(const std::string& path, const Study& study, const YieldResult& result,
+                  const ReportSections& sections);
+
 }  // namespace lotwise

@@ -43,4 +43,23 @@ Interval clopper_pearson(std::uint64_t k, std::uint64_t n, double confidence = 0
 /// Wilson score interval.
 Interval wilson(std::uint64_t k, std::uint64_t n, double confidence = 0.95);
 
+/// Jeffreys interval: the equal-tailed interval of the Beta(k + 1/2, n - k + 1/2)
+/// posterior, with the lower bound 0 at k = 0 and the upper bound 1 at k = n (Brown, Cai &
+/// DasGupta, Statist. Sci. 16(2), 2001).
+Interval jeffreys(std::uint64_t k, std::uint64_t n, double confidence = 0.95);
+
+/// One-sided exact upper confidence bound for a proportion k / n: B^-1(confidence; k + 1,
+/// n - k). With k = 0 it is 1 - (1 - confidence)^(1/n), about 3/n at 95 % (the rule of
+/// three); the bound on a failure fraction after n passing builds.
+double clopper_pearson_upper(std::uint64_t k, std::uint64_t n, double confidence = 0.95);
+
+/// The binomial interval methods a report can carry.
+enum class IntervalMethod { clopper_pearson, wilson, jeffreys };
+
+const char* to_string(IntervalMethod method);
+
+/// The interval of `method`.
+Interval binomial_interval(IntervalMethod method, std::uint64_t k, std::uint64_t n,
+                           double confidence = 0.95);
+
 }  // namespace lotwise

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <utility>
 
 #include "lotwise/error.hpp"
@@ -186,6 +187,37 @@ void Circuit::add_opamp(const std::string& name, const std::string& plus,
   check_value(name + ".offset", "V", spec.offset);
   check_value(name + ".bias_plus", "A", spec.bias_plus);
   check_value(name + ".bias_minus", "A", spec.bias_minus);
+  // Each side of the output swing: an explicit level, a supply less headroom, or none.
+  const auto side = [&](double supply, double headroom, double level, const char* which,
+                        double unlimited) {
+    const std::string s = std::string(which);
+    if (std::isnan(supply) || std::isnan(level) || !std::isfinite(headroom)) {
+      throw DesignError("op-amp '" + name + "': supply_" + s + ", headroom_" + s +
+                        " and output_" + s + " must be numbers (headroom finite)");
+    }
+    if (std::isfinite(level) && std::isfinite(supply)) {
+      throw DesignError("op-amp '" + name + "': give either output_" + s + " or supply_" + s +
+                        " (with headroom_" + s + "), not both");
+    }
+    if (supply == -unlimited || level == -unlimited) {
+      throw DesignError("op-amp '" + name + "': supply_" + s + " / output_" + s +
+                        " is infinite on the wrong side");
+    }
+    if (headroom < 0.0) {
+      throw DesignError("op-amp '" + name + "': headroom_" + s + " must be >= 0");
+    }
+    // Headroom without a supply (say from a grade, on an unlimited op-amp) has no effect.
+    if (std::isfinite(level)) return level;
+    return std::isfinite(supply) ? supply - (unlimited > 0 ? headroom : -headroom) : unlimited;
+  };
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  const double high = side(spec.supply_high, spec.headroom_high, spec.output_high, "high", inf);
+  const double low = side(spec.supply_low, spec.headroom_low, spec.output_low, "low", -inf);
+  if (!(high > low)) {
+    char shown[80];
+    std::snprintf(shown, sizeof shown, "%g V is not above the low limit %g V", high, low);
+    throw DesignError("op-amp '" + name + "': its high output limit " + shown);
+  }
   Element& e = add_element(name, ElementKind::opamp, {plus, minus, output});
   e.model = spec.model;
   // The primary parameter of an op-amp is its open-loop gain.
@@ -194,6 +226,19 @@ void Circuit::add_opamp(const std::string& name, const std::string& plus,
   add_parameter(e, "offset", spec.offset, "V");
   add_parameter(e, "bias_plus", spec.bias_plus, "A");
   add_parameter(e, "bias_minus", spec.bias_minus, "A");
+  // Limit parameters exist only for a limited side, so unlimited op-amps keep five.
+  if (std::isfinite(spec.output_high)) {
+    add_parameter(e, "output_high", spec.output_high, "V");
+  } else if (std::isfinite(spec.supply_high)) {
+    add_parameter(e, "supply_high", spec.supply_high, "V");
+    add_parameter(e, "headroom_high", spec.headroom_high, "V");
+  }
+  if (std::isfinite(spec.output_low)) {
+    add_parameter(e, "output_low", spec.output_low, "V");
+  } else if (std::isfinite(spec.supply_low)) {
+    add_parameter(e, "supply_low", spec.supply_low, "V");
+    add_parameter(e, "headroom_low", spec.headroom_low, "V");
+  }
 }
 
 std::size_t Circuit::find_element(const std::string& name) const {

@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <fstream>
 #include <initializer_list>
+#include <limits>
 #include <map>
 #include <optional>
 #include <sstream>
@@ -14,8 +15,10 @@
 #include <toml++/toml.h>
 
 #include "lotwise/error.hpp"
+#include "lotwise/preferred_values.hpp"
 #include "lotwise/units.hpp"
 #include "study/plan.hpp"
+#include "variation/model.hpp"
 #include "variation/sampler.hpp"
 
 namespace lotwise {
@@ -157,10 +160,52 @@ void read_opamp_fields(const Reader& r, const toml::table& t, OpAmpSpec& spec,
   }
   if (const auto* n = t.get("bias_plus")) spec.bias_plus = r.number(*n, where + ": bias_plus");
   if (const auto* n = t.get("bias_minus")) spec.bias_minus = r.number(*n, where + ": bias_minus");
+  // Output limits, per side: an explicit level, or a supply less headroom. A table that
+  // gives one form replaces the other form taken from a grade.
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  for (const bool high : {true, false}) {
+    const std::string side = high ? "high" : "low";
+    const toml::node* level = t.get("output_" + side);
+    const toml::node* supply = t.get("supply_" + side);
+    std::string headroom_key = "headroom_" + side;
+    const toml::node* headroom = t.get(headroom_key);
+    if (!headroom) {
+      headroom_key = "headroom";
+      headroom = t.get(headroom_key);
+    }
+    if (level && (supply || headroom)) {
+      r.fail(level, where + ": give either output_" + side + " or supply_" + side +
+                        " with headroom, not both");
+    }
+    double& spec_level = high ? spec.output_high : spec.output_low;
+    double& spec_supply = high ? spec.supply_high : spec.supply_low;
+    double& spec_headroom = high ? spec.headroom_high : spec.headroom_low;
+    if (level) {
+      spec_level = r.number(*level, where + ": output_" + side);
+      spec_supply = high ? inf : -inf;
+      spec_headroom = 0.0;
+    }
+    if (supply) {
+      spec_supply = r.number(*supply, where + ": supply_" + side);
+      spec_level = high ? inf : -inf;
+    }
+    if (headroom) {
+      spec_headroom = r.number(*headroom, where + ": " + headroom_key);
+      if (spec_headroom < 0.0) r.fail(headroom, where + ": " + headroom_key + " must be >= 0");
+    }
+  }
+  if (t.get("headroom") && (t.get("headroom_high") || t.get("headroom_low"))) {
+    r.fail(t.get("headroom"), where + ": give headroom (both sides) or headroom_high / "
+                                      "headroom_low, not both");
+  }
 }
 
-#define LOTWISE_OPAMP_KEYS "model", "open_loop_gain", "gain_bandwidth", "offset", \
-                           "bias_current", "bias_plus", "bias_minus"
+#define LOTWISE_OPAMP_KEYS "model", "open_loop_gain", "gain_bandwidth", "offset",            \
+                           "bias_current", "bias_plus", "bias_minus", "supply_high",         \
+                           "supply_low", "headroom", "headroom_high", "headroom_low",       \
+                           "output_high", "output_low"
+
+void check_series(const Reader& r, const toml::node& n, double value, const std::string& where);
 
 void read_part(const Reader& r, const std::string& name, const toml::node& node,
                const std::map<std::string, OpAmpSpec>& grades, Circuit& circuit) {
@@ -178,9 +223,15 @@ void read_part(const Reader& r, const std::string& name, const toml::node& node,
   {
     if (type == "resistor" || type == "capacitor" || type == "inductor" ||
         type == "voltage_source" || type == "current_source") {
-      r.only(t, {"type", "value", "nodes"}, where);
+      const bool passive = type == "resistor" || type == "capacitor" || type == "inductor";
+      if (passive) {
+        r.only(t, {"type", "value", "nodes", "series"}, where);
+      } else {
+        r.only(t, {"type", "value", "nodes"}, where);
+      }
       const auto nodes = r.node_list(r.need(t, "nodes", &node, where), 2, where + ": nodes");
       const double value = r.number(r.need(t, "value", &node, where), where + ": value");
+      if (const auto* n = t.get("series"); n && passive) check_series(r, *n, value, where);
       if (type == "resistor") build([&] { circuit.add_resistor(name, nodes[0], nodes[1], value); });
       else if (type == "capacitor") build([&] { circuit.add_capacitor(name, nodes[0], nodes[1], value); });
       else if (type == "inductor") build([&] { circuit.add_inductor(name, nodes[0], nodes[1], value); });
@@ -228,32 +279,176 @@ void read_part(const Reader& r, const std::string& name, const toml::node& node,
   }
 }
 
-Distribution distribution(const Reader& r, const toml::node& n, const std::string& where) {
-  const std::string s = r.text(n, where + ": distribution");
-  if (s == "normal") return Distribution::normal;
-  if (s == "uniform") return Distribution::uniform;
-  r.fail(&n, where + ": unknown distribution '" + s + "' (normal, uniform)");
+Distribution distribution(const Reader& r, const toml::node& n, const std::string& where,
+                          const char* key = "distribution") {
+  const std::string s = r.text(n, where + ": " + key);
+  std::string known;
+  for (auto d : {Distribution::normal, Distribution::uniform, Distribution::truncated_normal,
+                 Distribution::triangular, Distribution::log_normal, Distribution::binned,
+                 Distribution::fixed}) {
+    if (s == to_string(d)) return d;
+    known += (known.empty() ? "" : ", ") + std::string(to_string(d));
+  }
+  r.fail(&n, where + ": unknown " + key + " '" + s + "' (" + known + ")");
+}
+
+// A tolerance: "1%", "50ppm", an IEC 60062 letter ("F" is 1 %), or an absolute amount.
+Quantity tolerance_quantity(const Reader& r, const toml::node& n, const std::string& what) {
+  if (n.is_string()) {
+    const std::string& text = n.as_string()->get();
+    if (text.size() == 1 && text[0] >= 'A' && text[0] <= 'Z') {
+      try {
+        return {tolerance_of_letter(text), true};
+      } catch (const DesignError& e) {
+        r.fail(&n, what + ": " + e.what());
+      }
+    }
+  }
+  return r.quantity(n, what);
+}
+
+// A temperature coefficient: "50ppm" or "50ppm/K" (relative per kelvin), "2u" or
+// "2uV/K" (absolute per kelvin, in the parameter's unit).
+Quantity per_kelvin(const Reader& r, const toml::node& n, const std::string& what) {
+  if (n.is_string()) {
+    std::string text = n.as_string()->get();
+    for (const char* unit : {"/K", "/degC", "/\xC2\xB0" "C"}) {
+      const std::string u(unit);
+      if (text.size() > u.size() && text.compare(text.size() - u.size(), u.size(), u) == 0) {
+        text.resize(text.size() - u.size());
+        break;
+      }
+    }
+    try {
+      return parse_quantity(text);
+    } catch (const DesignError& e) {
+      r.fail(&n, what + ": " + e.what());
+    }
+  }
+  return r.quantity(n, what);
+}
+
+// A part's value must belong to the preferred-value series it names.
+void check_series(const Reader& r, const toml::node& n, double value, const std::string& where) {
+  PreferredSeries series{};
+  try {
+    series = parse_series(r.text(n, where + ": series"));
+  } catch (const DesignError& e) {
+    r.fail(&n, where + ": " + e.what());
+  }
+  if (!(value > 0.0) || !is_preferred(value, series, 1e-6)) {
+    r.fail(&n, where + ": value " + format_si(value, 4) + " is not an " + to_string(series) +
+                   " value" + (value > 0.0 ? " (nearest: " +
+                                   format_si(nearest_preferred(value, series), 4) + ")"
+                                           : std::string()));
+  }
+}
+
+bool normal_shaped(Distribution d) {
+  return d == Distribution::normal || d == Distribution::truncated_normal ||
+         d == Distribution::log_normal || d == Distribution::binned;
+}
+
+Variation read_variation(const Reader& r, const toml::node& item, const std::string& where) {
+  const toml::table& t = *item.as_table();
+  r.only(t, {"parameters", "tolerance", "distribution", "sigmas", "inner_tolerance",
+             "lot_tolerance", "lot_distribution", "ratio_tolerance", "tempco",
+             "tempco_tolerance", "tempco_distribution", "tempco_tracking"},
+         where);
+  Variation v;
+  v.targets = r.names(r.need(t, "parameters", &item, where), where + ": parameters");
+  if (const auto* d = t.get("distribution")) v.distribution = distribution(r, *d, where);
+  const bool fixed = v.distribution == Distribution::fixed;
+  // Relative or absolute is said once, by the first amount given; the others must agree.
+  bool unit_known = false;
+  auto amount = [&](const char* key, double& out) {
+    const toml::node* n = t.get(key);
+    if (!n) return;
+    const Quantity q = tolerance_quantity(r, *n, where + ": " + key);
+    if (unit_known && q.relative != v.relative) {
+      r.fail(n, where + ": " + key + " must be " + (v.relative ? "relative (\"0.1%\", \"B\")" :
+                                                              "absolute, like the tolerance"));
+    }
+    unit_known = true;
+    v.relative = q.relative;
+    out = q.value;
+  };
+  if (fixed) {
+    if (const auto* n = t.get("tolerance")) {
+      r.fail(n, where + ": a fixed parameter takes no tolerance (lot_tolerance and tempco "
+                        "still apply)");
+    }
+  } else {
+    r.need(t, "tolerance", &item, where);
+  }
+  amount("tolerance", v.tolerance);
+  amount("inner_tolerance", v.inner_tolerance);
+  amount("lot_tolerance", v.lot_tolerance);
+  if (const auto* n = t.get("ratio_tolerance")) {
+    const Quantity q = tolerance_quantity(r, *n, where + ": ratio_tolerance");
+    if (!q.relative) r.fail(n, where + ": ratio_tolerance must be relative (\"0.01%\", \"L\")");
+    v.ratio_tolerance = q.value;
+  }
+  if (const auto* d = t.get("lot_distribution")) {
+    v.lot_distribution = distribution(r, *d, where, "lot_distribution");
+  }
+  bool coefficient_known = false;
+  auto coefficient = [&](const char* key, double& out) {
+    const toml::node* n = t.get(key);
+    if (!n) return;
+    const Quantity q = per_kelvin(r, *n, where + ": " + key);
+    if (coefficient_known && q.relative != v.tempco_relative) {
+      r.fail(n, where + ": " + key + " must be given like tempco (both relative, as \"ppm\", or "
+                        "both absolute)");
+    }
+    coefficient_known = true;
+    v.tempco_relative = q.relative;
+    out = q.value;
+  };
+  coefficient("tempco", v.tempco);
+  coefficient("tempco_tolerance", v.tempco_tolerance);
+  coefficient("tempco_tracking", v.tempco_tracking);
+  if (const auto* d = t.get("tempco_distribution")) {
+    v.tempco_distribution = distribution(r, *d, where, "tempco_distribution");
+  }
+  if (const auto* s = t.get("sigmas")) {
+    const bool used = normal_shaped(v.distribution) ||
+                      (v.lot_tolerance > 0.0 && normal_shaped(v.lot_distribution)) ||
+                      (v.tempco_tolerance > 0.0 && normal_shaped(v.tempco_distribution));
+    if (!used) {
+      r.fail(s, where + ": sigmas applies to the normal-shaped distributions only (normal, "
+                        "truncated_normal, log_normal, binned, or a normal lot or tempco spread)");
+    }
+    v.sigmas = r.number(*s, where + ": sigmas");
+  }
+  return v;
 }
 
 MeasurementKind measurement_kind(const Reader& r, const toml::node& n, const std::string& where) {
   const std::string s = r.text(n, where + ": kind");
+  std::string known;
   for (auto k : {MeasurementKind::gain, MeasurementKind::differential_gain,
                  MeasurementKind::common_mode_gain, MeasurementKind::cmrr,
                  MeasurementKind::output_offset, MeasurementKind::input_offset,
-                 MeasurementKind::node_voltage, MeasurementKind::bandwidth}) {
+                 MeasurementKind::node_voltage, MeasurementKind::bandwidth,
+                 MeasurementKind::phase, MeasurementKind::gain_error,
+                 MeasurementKind::rising_threshold, MeasurementKind::falling_threshold,
+                 MeasurementKind::hysteresis, MeasurementKind::threshold_centre,
+                 MeasurementKind::output_high, MeasurementKind::output_low}) {
     if (s == to_string(k)) return k;
+    known += (known.empty() ? "" : ", ") + std::string(to_string(k));
   }
-  r.fail(&n, where + ": unknown measurement kind '" + s +
-                 "' (gain, differential_gain, common_mode_gain, cmrr, output_offset, "
-                 "input_offset, node_voltage, bandwidth)");
+  r.fail(&n, where + ": unknown measurement kind '" + s + "' (" + known + ")");
 }
 
 Design read(const toml::table& root, const Reader& r) {
-  r.only(root, {"title", "ground", "opamp_grades", "parts", "vary", "measurements", "specs", "run"},
+  r.only(root, {"title", "ground", "opamp_grades", "parts", "vary", "correlate", "temperature",
+                "measurements", "specs", "run", "sweep"},
          "the top level");
   std::string ground = "gnd";
   if (const auto* n = root.get("ground")) ground = r.text(*n, "ground");
-  Design design{"", Circuit(ground), {}, {}, {}, {}};
+  Design design;
+  design.circuit = Circuit(ground);
   if (const auto* n = root.get("title")) design.title = r.text(*n, "title");
 
   std::map<std::string, OpAmpSpec> grades;
@@ -280,18 +475,7 @@ Design read(const toml::table& root, const Reader& r) {
     std::map<std::size_t, std::size_t> spread_by;  // parameter -> [[vary]] number
     for (const auto& item : *n->as_array()) {
       const std::string where = "[[vary]] number " + std::to_string(++index);
-      const toml::table& t = *item.as_table();
-      r.only(t, {"parameters", "tolerance", "distribution", "sigmas"}, where);
-      Variation v;
-      v.targets = r.names(r.need(t, "parameters", &item, where), where + ": parameters");
-      const Quantity tol = r.quantity(r.need(t, "tolerance", &item, where), where + ": tolerance");
-      v.tolerance = tol.value;
-      v.relative = tol.relative;
-      if (const auto* d = t.get("distribution")) v.distribution = distribution(r, *d, where);
-      if (const auto* s = t.get("sigmas")) {
-        if (v.distribution != Distribution::normal) r.fail(s, where + ": sigmas applies to the normal distribution only");
-        v.sigmas = r.number(*s, where + ": sigmas");
-      }
+      const Variation v = read_variation(r, item, where);
       std::vector<std::size_t> targets;
       try {
         targets = detail::resolve_targets(design.circuit, v);
@@ -312,18 +496,102 @@ Design read(const toml::table& root, const Reader& r) {
     }
   }
 
+  if (const auto* n = root.get("temperature")) {
+    const toml::table& t = r.table(n, "[temperature]");
+    r.only(t, {"reference", "operating", "range"}, "[temperature]");
+    Temperature& temp = design.temperature;
+    if (const auto* v = t.get("reference")) temp.reference = r.number(*v, "[temperature] reference");
+    if (const auto* v = t.get("operating")) {
+      if (v->is_array()) {
+        for (const auto& x : *v->as_array()) {
+          temp.operating.push_back(r.number(x, "[temperature] operating"));
+        }
+        if (temp.operating.empty()) r.fail(v, "[temperature] operating lists no temperature");
+      } else {
+        temp.operating.push_back(r.number(*v, "[temperature] operating"));
+      }
+    }
+    if (const auto* v = t.get("range")) {
+      if (!v->is_array() || v->as_array()->size() != 2) {
+        r.fail(v, "[temperature] range must be [low, high] in degrees Celsius");
+      }
+      temp.drawn = true;
+      temp.low = r.number(*v->as_array()->get(0), "[temperature] range");
+      temp.high = r.number(*v->as_array()->get(1), "[temperature] range");
+    }
+    try {
+      detail::validate_temperature(temp);
+    } catch (const DesignError& e) {
+      r.fail(n, std::string("[temperature]: ") + e.what());
+    }
+  }
+
+  if (const auto* n = root.get("correlate")) {
+    if (!n->is_array_of_tables()) r.fail(n, "correlate must be written as [[correlate]] tables");
+    std::size_t index = 0;
+    for (const auto& item : *n->as_array()) {
+      const std::string where = "[[correlate]] number " + std::to_string(++index);
+      const toml::table& t = *item.as_table();
+      r.only(t, {"parameters", "coefficient"}, where);
+      Correlation c;
+      c.parameters = r.names(r.need(t, "parameters", &item, where), where + ": parameters");
+      const toml::node& k = r.need(t, "coefficient", &item, where);
+      c.coefficient = r.number(k, where + ": coefficient");
+      if (!(std::abs(c.coefficient) < 1.0)) {
+        r.fail(&k, where + ": the coefficient must lie strictly between -1 and 1 (a perfect "
+                           "correlation is a shared deviation: use lot_tolerance or a matched "
+                           "network)");
+      }
+      // One correlation at a time first, so that its own faults point at it.
+      try {
+        detail::VariationModel(design.circuit, design.variations, {c}, design.temperature);
+      } catch (const DesignError& e) {
+        std::string what = e.what();
+        const std::string own = "correlation 1: ";
+        if (what.compare(0, own.size(), own) == 0) what.erase(0, own.size());
+        r.fail(&item, where + ": " + what);
+      }
+      design.correlations.push_back(c);
+    }
+    // Conflicting pairs and a matrix that is not positive definite involve several.
+    try {
+      detail::VariationModel(design.circuit, design.variations, design.correlations,
+                             design.temperature);
+    } catch (const DesignError& e) {
+      const std::string what = e.what();
+      r.fail(n, what.find("by correlation") == std::string::npos
+                    ? what
+                    : what + " (correlations are numbered as the [[correlate]] tables stand "
+                             "in the file)");
+    }
+  }
+
   std::vector<const toml::node*> measurement_nodes;
   if (const auto* n = root.get("measurements")) {
     for (const auto& [name, value] : in_file_order(r.table(n, "[measurements]"))) {
       const std::string where = "measurement '" + name + "'";
       const toml::table& t = r.table(value, where);
-      r.only(t, {"kind", "inputs", "output", "frequency"}, where);
+      r.only(t, {"kind", "inputs", "output", "frequency", "target", "opamp"}, where);
       Measurement m;
       m.name = name;
       m.kind = measurement_kind(r, r.need(t, "kind", value, where), where);
       if (const auto* i = t.get("inputs")) m.inputs = r.names(*i, where + ": inputs");
-      m.output = r.names(r.need(t, "output", value, where), where + ": output");
+      // Trip points read the driving source (thresholds) or default to the op-amp's output.
+      if (is_trip_point(m.kind)) {
+        if (const auto* o = t.get("output")) m.output = r.names(*o, where + ": output");
+      } else {
+        m.output = r.names(r.need(t, "output", value, where), where + ": output");
+      }
       if (const auto* f = t.get("frequency")) m.frequency = r.number(*f, where + ": frequency");
+      if (const auto* g = t.get("target")) {
+        m.target = r.number(*g, where + ": target");
+        if (m.kind == MeasurementKind::gain_error && m.target == 0.0) {
+          r.fail(g, where + ": target must not be 0 (the gain error is relative to it)");
+        }
+      } else if (m.kind == MeasurementKind::gain_error) {
+        r.fail(value, where + " needs the key 'target' (the intended gain)");
+      }
+      if (const auto* o = t.get("opamp")) m.opamp = r.text(*o, where + ": opamp");
       try {
         detail::validate_measurement(design.circuit, m);
       } catch (const DesignError& e) {
@@ -351,9 +619,74 @@ Design read(const toml::table& root, const Reader& r) {
     }
   }
 
+  if (const auto* n = root.get("sweep")) {
+    // [[sweep]] axes for `lotwise sweep`: nominal = "R2" or tolerance = "R*", values = [...]
+    if (!n->is_array_of_tables()) r.fail(n, "sweep must be written as [[sweep]] tables");
+    std::size_t index = 0;
+    for (const auto& item : *n->as_array()) {
+      const std::string where = "[[sweep]] " + std::to_string(++index);
+      const toml::table& t = r.table(&item, where);
+      r.only(t, {"nominal", "tolerance", "values"}, where);
+      ParameterSweepAxis axis;
+      const toml::node* nominal = t.get("nominal");
+      const toml::node* tolerance = t.get("tolerance");
+      if ((nominal == nullptr) == (tolerance == nullptr)) {
+        r.fail(&item, where + ": give either nominal = \"PARAMETER\" or tolerance = \"PARAMETER\"");
+      }
+      axis.setting = nominal ? SweepSetting::nominal : SweepSetting::tolerance;
+      axis.parameter = r.text(nominal ? *nominal : *tolerance, where + ": parameter");
+      try {
+        detail::resolve_names(design.circuit, {axis.parameter});
+      } catch (const DesignError& e) {
+        r.fail(nominal ? nominal : tolerance, where + ": " + e.what());
+      }
+      const toml::node& values = r.need(t, "values", &item, where);
+      if (!values.is_array() || values.as_array()->empty()) {
+        r.fail(&values, where + ": values must be a non-empty array, e.g. [\"10k\", \"20k\"]");
+      }
+      for (const auto& v : *values.as_array()) {
+        axis.values.push_back(r.quantity(v, where + ": values").value);
+      }
+      design.sweep.push_back(axis);
+    }
+    if (design.sweep.size() > 2) r.fail(n, "at most two [[sweep]] axes");
+  }
+
   if (const auto* n = root.get("run")) {
     const toml::table& t = r.table(n, "[run]");
-    r.only(t, {"samples", "seed", "threads"}, "[run]");
+    r.only(t, {"samples", "seed", "threads", "sampler", "replicates", "confidence",
+               "target_half_width"}, "[run]");
+    if (const auto* v = t.get("confidence")) {
+      // "95%" or 0.95
+      const double c = r.quantity(*v, "[run] confidence").value;
+      if (!(c >= 0.5 && c < 1.0)) r.fail(v, "[run] confidence must lie in [0.5, 1), e.g. 0.95 or \"95%\"");
+      design.run.confidence = c;
+    }
+    if (const auto* v = t.get("target_half_width")) {
+      // "0.5%" or 0.005: the half-width of the yield's interval at which the run stops
+      const double h = r.quantity(*v, "[run] target_half_width").value;
+      if (!(h > 0.0 && h < 0.5)) r.fail(v, "[run] target_half_width must lie in (0, 0.5), e.g. \"0.5%\"");
+      design.run.target_half_width = h;
+    }
+    if (const auto* v = t.get("sampler")) {
+      const std::string word = r.text(*v, "[run] sampler");
+      bool known = false;
+      for (auto k : {Sampler::monte_carlo, Sampler::sobol, Sampler::latin_hypercube}) {
+        if (word == to_string(k)) {
+          design.run.sampler = k;
+          known = true;
+        }
+      }
+      if (!known) {
+        r.fail(v, "[run] sampler: unknown sampler '" + word +
+                      "' (monte_carlo, sobol, latin_hypercube)");
+      }
+    }
+    if (const auto* v = t.get("replicates")) {
+      const std::uint64_t count = r.count(*v, "[run] replicates", false);
+      if (count > 65536) r.fail(v, "[run] replicates must be at most 65536");
+      design.run.replicates = static_cast<std::uint32_t>(count);
+    }
     if (const auto* v = t.get("samples")) design.run.samples = r.count(*v, "[run] samples", false);
     if (const auto* v = t.get("seed")) design.run.seed = r.count(*v, "[run] seed", true);
     if (const auto* v = t.get("threads")) {

@@ -48,6 +48,18 @@ struct ErrorStamp {
   double sign;
 };
 
+/// An op-amp's output: where its branch equation sits and which parameters set its
+/// limits (npos where a side is unlimited or has no headroom parameter).
+struct OpAmpOutput {
+  std::size_t element;
+  std::size_t branch;  ///< row and column of the output current
+  std::size_t out;     ///< unknown index of the output node
+  std::size_t high;    ///< output_high or supply_high
+  std::size_t headroom_high;
+  std::size_t low;     ///< output_low or supply_low
+  std::size_t headroom_low;
+};
+
 }  // namespace lotwise::detail
 
 namespace lotwise {
@@ -61,6 +73,8 @@ struct Network::Layout {
   std::vector<detail::MatrixStamp> matrix;
   std::vector<detail::SourceStamp> sources;
   std::vector<detail::ErrorStamp> errors;
+  std::vector<detail::OpAmpOutput> opamps;
+  std::vector<std::size_t> opamp_of_element;  ///< index into opamps, npos for other elements
 
   std::size_t node(const std::string& name) const;  ///< npos for ground
 };
@@ -69,6 +83,8 @@ struct NetworkWorkspace::Data {
   Eigen::MatrixXd a;
   Eigen::PartialPivLU<Eigen::MatrixXd> lu;
   Eigen::VectorXd rhs;
+  /// Set by factor_dc: 1 for the branch rows of held op-amp outputs.
+  std::vector<unsigned char> held_row;
   Eigen::MatrixXd x;  ///< one column per slot
   Eigen::MatrixXcd ac;
   Eigen::PartialPivLU<Eigen::MatrixXcd> ac_lu;

@@ -153,6 +153,7 @@ Network::Network(const Circuit& circuit) : layout_(std::make_unique<Layout>()) {
     return L.branch_of_element[c];
   };
 
+  L.opamp_of_element.assign(elements.size(), npos);
   StampSink sink{L};
   for (std::size_t e = 0; e < elements.size(); ++e) {
     const Element& el = elements[e];
@@ -216,6 +217,18 @@ Network::Network(const Circuit& circuit) : layout_(std::make_unique<Layout>()) {
         sink.error(k, el.parameters[2], -1.0);  // offset
         sink.error(a, el.parameters[3], -1.0);  // bias current drawn from the + input
         sink.error(b, el.parameters[4], -1.0);  // bias current drawn from the - input
+        detail::OpAmpOutput o{e, k, out, npos, npos, npos, npos};
+        const auto& params = circuit.parameters();
+        for (std::size_t i = 5; i < el.parameters.size(); ++i) {
+          const std::string& n = params[el.parameters[i]].name;
+          const std::string suffix = n.substr(n.find('.') + 1);
+          if (suffix == "output_high" || suffix == "supply_high") o.high = el.parameters[i];
+          else if (suffix == "headroom_high") o.headroom_high = el.parameters[i];
+          else if (suffix == "output_low" || suffix == "supply_low") o.low = el.parameters[i];
+          else if (suffix == "headroom_low") o.headroom_low = el.parameters[i];
+        }
+        L.opamp_of_element[e] = L.opamps.size();
+        L.opamps.push_back(o);
         break;
       }
     }
@@ -243,6 +256,7 @@ NetworkWorkspace Network::make_workspace(std::size_t slots) const {
   d->a = Eigen::MatrixXd::Zero(n, n);
   d->lu = Eigen::PartialPivLU<Eigen::MatrixXd>(n);
   d->rhs = Eigen::VectorXd::Zero(n);
+  d->held_row.assign(layout_->size, 0);
   d->x = Eigen::MatrixXd::Zero(n, s);
   d->ac = Eigen::MatrixXcd::Zero(n, n);
   d->ac_lu = Eigen::PartialPivLU<Eigen::MatrixXcd>(n);
@@ -251,23 +265,76 @@ NetworkWorkspace Network::make_workspace(std::size_t slots) const {
   return NetworkWorkspace(std::move(d));
 }
 
+namespace {
+
+OutputLimits limits_of(const detail::OpAmpOutput& o, const double* theta) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  OutputLimits l{-inf, inf};
+  if (o.high != Network::npos) {
+    l.high = theta[o.high] - (o.headroom_high != Network::npos ? theta[o.headroom_high] : 0.0);
+  }
+  if (o.low != Network::npos) {
+    l.low = theta[o.low] + (o.headroom_low != Network::npos ? theta[o.headroom_low] : 0.0);
+  }
+  return l;
+}
+
+}  // namespace
+
 SolveStatus Network::check_values(const double* parameters) const {
   const auto& params = layout_->circuit.parameters();
   for (std::size_t i = 0; i < params.size(); ++i) {
     const double v = parameters[i];
     if (!std::isfinite(v) || (params[i].positive && !(v > 0.0))) return SolveStatus::invalid_value;
   }
+  // A draw whose output swing has closed up (high limit at or below the low one).
+  for (const auto& o : layout_->opamps) {
+    const OutputLimits l = limits_of(o, parameters);
+    if (!(l.high > l.low)) return SolveStatus::invalid_value;
+  }
   return SolveStatus::ok;
 }
 
+OutputLimits Network::output_limits(const double* parameters, std::size_t element) const {
+  const std::size_t i = element < layout_->opamp_of_element.size()
+                            ? layout_->opamp_of_element[element]
+                            : npos;
+  if (i == npos) throw Error("output_limits: element " + std::to_string(element) + " is not an op-amp");
+  return limits_of(layout_->opamps[i], parameters);
+}
+
+bool Network::has_output_limits(std::size_t element) const {
+  const std::size_t i = element < layout_->opamp_of_element.size()
+                            ? layout_->opamp_of_element[element]
+                            : npos;
+  return i != npos && layout_->opamps[i].high != npos && layout_->opamps[i].low != npos;
+}
+
 SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws) const {
+  static const std::vector<std::size_t> none;
+  return factor_dc(parameters, ws, none);
+}
+
+SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws,
+                               const std::vector<std::size_t>& held_outputs) const {
   auto& d = ws.data();
+  std::fill(d.held_row.begin(), d.held_row.end(), static_cast<unsigned char>(0));
+  for (const std::size_t e : held_outputs) {
+    const std::size_t i = e < layout_->opamp_of_element.size() ? layout_->opamp_of_element[e] : npos;
+    if (i == npos) throw Error("factor_dc: held element " + std::to_string(e) + " is not an op-amp");
+    d.held_row[layout_->opamps[i].branch] = 1;
+  }
   const SolveStatus values = check_values(parameters);
   if (values != SolveStatus::ok) return values;
   d.a.setZero();
   for (const auto& s : layout_->matrix) {
+    if (d.held_row[s.row]) continue;  // the held op-amp's branch equation, replaced below
     d.a(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
         real_stamp(s, parameters);
+  }
+  for (const std::size_t e : held_outputs) {
+    const auto& o = layout_->opamps[layout_->opamp_of_element[e]];
+    d.a(static_cast<Eigen::Index>(o.branch), static_cast<Eigen::Index>(o.out)) = 1.0;
   }
   if (layout_->size == 0) return SolveStatus::ok;
   d.lu.compute(d.a);
@@ -292,8 +359,11 @@ SolveStatus Network::factor_ac(const double* parameters, double frequency,
 
 namespace {
 
+// `held` marks the branch rows of held op-amp outputs (DC only; nullptr for none): their
+// offset terms give way to the held level.
 template <typename Vector>
-void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, Vector& rhs) {
+void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, Vector& rhs,
+              const unsigned char* held) {
   rhs.setZero();
   for (const auto& s : L.sources) {
     double value = ex.sources_at_value ? theta[s.p] : 0.0;
@@ -303,7 +373,18 @@ void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& e
     rhs(static_cast<Eigen::Index>(s.row)) += s.sign * value;
   }
   if (ex.opamp_errors) {
-    for (const auto& s : L.errors) rhs(static_cast<Eigen::Index>(s.row)) += s.sign * theta[s.p];
+    for (const auto& s : L.errors) {
+      if (held && held[s.row]) continue;
+      rhs(static_cast<Eigen::Index>(s.row)) += s.sign * theta[s.p];
+    }
+  }
+  if (held) {
+    for (const auto& level : ex.output_levels) {
+      const std::size_t i =
+          level.first < L.opamp_of_element.size() ? L.opamp_of_element[level.first] : Network::npos;
+      if (i == Network::npos || !held[L.opamps[i].branch]) continue;
+      rhs(static_cast<Eigen::Index>(L.opamps[i].branch)) = level.second;
+    }
   }
 }
 
@@ -312,7 +393,7 @@ void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& e
 const double* Network::solve_dc(const double* parameters, const Excitation& excitation,
                                 NetworkWorkspace& ws, std::size_t slot) const {
   auto& d = ws.data();
-  fill_rhs(*layout_, parameters, excitation, d.rhs);
+  fill_rhs(*layout_, parameters, excitation, d.rhs, d.held_row.data());
   auto column = d.x.col(static_cast<Eigen::Index>(slot));
   if (layout_->size > 0) column.noalias() = d.lu.solve(d.rhs);
   return column.data();
@@ -322,13 +403,14 @@ const std::complex<double>* Network::solve_ac(const double* parameters,
                                               const Excitation& excitation, NetworkWorkspace& ws,
                                               std::size_t slot) const {
   auto& d = ws.data();
-  fill_rhs(*layout_, parameters, excitation, d.ac_rhs);
+  fill_rhs(*layout_, parameters, excitation, d.ac_rhs, nullptr);
   auto column = d.ac_x.col(static_cast<Eigen::Index>(slot));
   if (layout_->size > 0) column.noalias() = d.ac_lu.solve(d.ac_rhs);
   return column.data();
 }
 
-std::string Network::diagnose_singular(const double* parameters, double frequency) const {
+std::string Network::diagnose_singular(const double* parameters, double frequency,
+                                      const std::vector<std::size_t>& held_outputs) const {
   std::ostringstream out;
   const SolveStatus values = check_values(parameters);
   if (values != SolveStatus::ok) {
@@ -341,11 +423,20 @@ std::string Network::diagnose_singular(const double* parameters, double frequenc
         return out.str();
       }
     }
+    for (const auto& o : layout_->opamps) {
+      const OutputLimits l = limits_of(o, parameters);
+      if (!(l.high > l.low)) {
+        out << "op-amp '" << layout_->circuit.elements()[o.element].name
+            << "' has a high output limit of " << l.high << " V, not above its low limit of "
+            << l.low << " V";
+        return out.str();
+      }
+    }
   }
   auto ws = make_workspace();
   Eigen::MatrixXcd a;
   if (frequency == 0.0) {
-    factor_dc(parameters, ws);
+    factor_dc(parameters, ws, held_outputs);
     a = ws.data().a.cast<std::complex<double>>();
   } else {
     factor_ac(parameters, frequency, ws);
@@ -356,6 +447,13 @@ std::string Network::diagnose_singular(const double* parameters, double frequenc
   const Eigen::MatrixXcd kernel = full.kernel();
   out << "the circuit equations are singular";
   if (frequency != 0.0) out << " at " << frequency << " Hz";
+  if (!held_outputs.empty()) {
+    out << " with the output of";
+    for (std::size_t i = 0; i < held_outputs.size(); ++i) {
+      out << (i ? ", " : " ") << "'" << layout_->circuit.elements()[held_outputs[i]].name << "'";
+    }
+    out << " held at a limit";
+  }
   if (kernel.cols() > 0 && kernel.norm() > 0) {
     const Eigen::VectorXcd v = kernel.col(0);
     const double biggest = v.cwiseAbs().maxCoeff();

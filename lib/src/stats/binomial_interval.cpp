@@ -51,4 +51,45 @@ Interval wilson(std::uint64_t k, std::uint64_t n, double confidence) {
   return ci;
 }
 
+// Jeffreys: equal-tailed Beta(k + 1/2, n - k + 1/2) quantiles, with the conventional
+// ends at k = 0 and k = n (Brown, Cai & DasGupta 2001).
+Interval jeffreys(std::uint64_t k, std::uint64_t n, double confidence) {
+  check(k, n, confidence);
+  const double alpha = 1.0 - confidence;
+  const double a = static_cast<double>(k) + 0.5;
+  const double b = static_cast<double>(n - k) + 0.5;
+  Interval ci;
+  ci.low = k == 0 ? 0.0 : boost::math::ibeta_inv(a, b, alpha / 2.0);
+  ci.high = k == n ? 1.0 : boost::math::ibeta_inv(a, b, 1.0 - alpha / 2.0);
+  return ci;
+}
+
+double clopper_pearson_upper(std::uint64_t k, std::uint64_t n, double confidence) {
+  check(k, n, confidence);
+  if (k == n) return 1.0;
+  // k = 0 in closed form: (1 - p)^n = alpha.
+  if (k == 0) return -std::expm1(std::log(1.0 - confidence) / static_cast<double>(n));
+  const double kd = static_cast<double>(k);
+  return boost::math::ibeta_inv(kd + 1.0, static_cast<double>(n) - kd, confidence);
+}
+
+const char* to_string(IntervalMethod method) {
+  switch (method) {
+    case IntervalMethod::clopper_pearson: return "clopper_pearson";
+    case IntervalMethod::wilson: return "wilson";
+    case IntervalMethod::jeffreys: return "jeffreys";
+  }
+  return "?";
+}
+
+Interval binomial_interval(IntervalMethod method, std::uint64_t k, std::uint64_t n,
+                           double confidence) {
+  switch (method) {
+    case IntervalMethod::clopper_pearson: return clopper_pearson(k, n, confidence);
+    case IntervalMethod::wilson: return wilson(k, n, confidence);
+    case IntervalMethod::jeffreys: return jeffreys(k, n, confidence);
+  }
+  throw Error("unknown interval method");
+}
+
 }  // namespace lotwise

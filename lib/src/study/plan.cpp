@@ -1,5 +1,6 @@
 #include "study/plan.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <cstdint>
 #include <cstdio>
@@ -24,6 +25,14 @@ const char* to_string(MeasurementKind kind) {
     case MeasurementKind::input_offset: return "input_offset";
     case MeasurementKind::node_voltage: return "node_voltage";
     case MeasurementKind::bandwidth: return "bandwidth";
+    case MeasurementKind::phase: return "phase";
+    case MeasurementKind::gain_error: return "gain_error";
+    case MeasurementKind::rising_threshold: return "rising_threshold";
+    case MeasurementKind::falling_threshold: return "falling_threshold";
+    case MeasurementKind::hysteresis: return "hysteresis";
+    case MeasurementKind::threshold_centre: return "threshold_centre";
+    case MeasurementKind::output_high: return "output_high";
+    case MeasurementKind::output_low: return "output_low";
   }
   return "?";
 }
@@ -38,8 +47,28 @@ const char* unit_of(MeasurementKind kind) {
     case MeasurementKind::input_offset:
     case MeasurementKind::node_voltage: return "V";
     case MeasurementKind::bandwidth: return "Hz";
+    case MeasurementKind::phase: return "deg";
+    case MeasurementKind::gain_error: return "";
+    case MeasurementKind::rising_threshold:
+    case MeasurementKind::falling_threshold:
+    case MeasurementKind::hysteresis:
+    case MeasurementKind::threshold_centre:
+    case MeasurementKind::output_high:
+    case MeasurementKind::output_low: return "V";
   }
   return "";
+}
+
+bool is_trip_point(MeasurementKind kind) {
+  switch (kind) {
+    case MeasurementKind::rising_threshold:
+    case MeasurementKind::falling_threshold:
+    case MeasurementKind::hysteresis:
+    case MeasurementKind::threshold_centre:
+    case MeasurementKind::output_high:
+    case MeasurementKind::output_low: return true;
+    default: return false;
+  }
 }
 
 namespace detail {
@@ -49,7 +78,22 @@ constexpr double nan = std::numeric_limits<double>::quiet_NaN();
 
 bool same(const Excitation& a, const Excitation& b) {
   return a.sources_at_value == b.sources_at_value && a.opamp_errors == b.opamp_errors &&
-         a.overrides == b.overrides;
+         a.overrides == b.overrides && a.output_levels == b.output_levels;
+}
+
+bool is_threshold(MeasurementKind kind) {
+  return is_trip_point(kind) && kind != MeasurementKind::output_high &&
+         kind != MeasurementKind::output_low;
+}
+
+// Whether op-amp element `e` has a limit parameter on the given side ("high" / "low").
+bool has_limit(const Circuit& c, const Element& e, const std::string& side) {
+  for (const std::size_t p : e.parameters) {
+    const std::string& n = c.parameters()[p].name;
+    const std::string suffix = n.substr(n.find('.') + 1);
+    if (suffix == "output_" + side || suffix == "supply_" + side) return true;
+  }
+  return false;
 }
 
 std::size_t source_index(const Circuit& circuit, const std::string& name) {
@@ -83,10 +127,14 @@ class PlanBuilder {
  public:
   PlanBuilder(const Network& network, Plan& plan) : network_(network), plan_(plan) {}
 
-  std::size_t probe(double frequency, const Excitation& ex, std::size_t plus, std::size_t minus) {
+  std::size_t probe(double frequency, const std::vector<std::size_t>& held, const Excitation& ex,
+                    std::size_t plus, std::size_t minus) {
     std::size_t a = 0;
-    while (a < plan_.analyses.size() && plan_.analyses[a].frequency != frequency) ++a;
-    if (a == plan_.analyses.size()) plan_.analyses.push_back(Analysis{frequency, {}});
+    while (a < plan_.analyses.size() &&
+           (plan_.analyses[a].frequency != frequency || plan_.analyses[a].held != held)) {
+      ++a;
+    }
+    if (a == plan_.analyses.size()) plan_.analyses.push_back(Analysis{frequency, held, {}});
     auto& exs = plan_.analyses[a].excitations;
     std::size_t e = 0;
     while (e < exs.size() && !same(exs[e], ex)) ++e;
@@ -110,6 +158,7 @@ class PlanBuilder {
 void validate_measurement(const Circuit& circuit, const Measurement& m) {
   const std::string where = "measurement '" + m.name + "'";
   if (m.name.empty()) throw DesignError("a measurement needs a name");
+  const bool trip = is_trip_point(m.kind);
   std::size_t lo = 0, hi = 0;
   switch (m.kind) {
     case MeasurementKind::gain:
@@ -118,8 +167,16 @@ void validate_measurement(const Circuit& circuit, const Measurement& m) {
     case MeasurementKind::common_mode_gain:
     case MeasurementKind::cmrr: lo = hi = 2; break;
     case MeasurementKind::output_offset:
-    case MeasurementKind::input_offset: lo = 1; hi = 2; break;
+    case MeasurementKind::input_offset:
+    case MeasurementKind::phase:
+    case MeasurementKind::gain_error: lo = 1; hi = 2; break;
     case MeasurementKind::node_voltage: lo = hi = 0; break;
+    case MeasurementKind::rising_threshold:
+    case MeasurementKind::falling_threshold:
+    case MeasurementKind::hysteresis:
+    case MeasurementKind::threshold_centre:
+    case MeasurementKind::output_high:
+    case MeasurementKind::output_low: lo = hi = 1; break;
   }
   if (m.inputs.size() < lo || m.inputs.size() > hi) {
     std::string want = lo == hi ? std::to_string(lo) : std::to_string(lo) + " or " + std::to_string(hi);
@@ -141,8 +198,17 @@ void validate_measurement(const Circuit& circuit, const Measurement& m) {
         throw DesignError(where + ": input '" + m.inputs[i] + "' is named twice");
       }
     }
+    if (trip && kind != ElementKind::voltage_source) {
+      throw DesignError(where + ": the driving input '" + m.inputs[i] +
+                        "' of a trip point must be a voltage source (thresholds are in volts)");
+    }
   }
-  if (m.output.empty() || m.output.size() > 2) {
+  if (is_threshold(m.kind) && !m.output.empty()) {
+    throw DesignError(where + ": a " + std::string(to_string(m.kind)) +
+                      " takes no output; its value is a level of the driving source '" +
+                      m.inputs[0] + "'");
+  }
+  if ((!trip && m.output.empty()) || m.output.size() > 2) {
     throw DesignError(where + ": output must be one node or a pair of nodes (plus, minus)");
   }
   for (const auto& node : m.output) {
@@ -156,10 +222,44 @@ void validate_measurement(const Circuit& circuit, const Measurement& m) {
   const bool dc_only = m.kind == MeasurementKind::output_offset ||
                        m.kind == MeasurementKind::input_offset ||
                        m.kind == MeasurementKind::node_voltage ||
-                       m.kind == MeasurementKind::bandwidth;
+                       m.kind == MeasurementKind::bandwidth || trip;
   if (dc_only && m.frequency != 0.0) {
     throw DesignError(where + ": a " + std::string(to_string(m.kind)) +
                       " measurement takes no frequency");
+  }
+  if (m.kind == MeasurementKind::phase && !(m.frequency > 0.0)) {
+    throw DesignError(where + ": a phase measurement needs a frequency above 0 Hz");
+  }
+  if (m.kind == MeasurementKind::gain_error) {
+    if (!std::isfinite(m.target) || m.target == 0.0) {
+      throw DesignError(where + ": a gain_error measurement needs a finite, non-zero target gain");
+    }
+    if (m.frequency > 0.0 && m.target < 0.0) {
+      throw DesignError(where + ": at a frequency the gain is a magnitude, so the target must be "
+                        "positive");
+    }
+  } else if (m.target != 0.0) {
+    throw DesignError(where + ": only a gain_error measurement takes a target");
+  }
+  if (!trip) {
+    if (!m.opamp.empty()) {
+      throw DesignError(where + ": only the trip-point kinds take an opamp");
+    }
+    return;
+  }
+  if (m.opamp.empty()) {
+    throw DesignError(where + ": a " + std::string(to_string(m.kind)) +
+                      " measurement names its deciding op-amp (opamp = \"U1\")");
+  }
+  const std::size_t u = circuit.find_element(m.opamp);
+  if (u == Circuit::npos || circuit.elements()[u].kind != ElementKind::opamp) {
+    throw DesignError(where + ": '" + m.opamp + "' is not an op-amp of the circuit");
+  }
+  const Element& amp = circuit.elements()[u];
+  if (!has_limit(circuit, amp, "high") || !has_limit(circuit, amp, "low")) {
+    throw DesignError(where + ": op-amp '" + m.opamp +
+                      "' needs output limits on both sides for trip points (supply_high and "
+                      "supply_low, or output_high and output_low)");
   }
 }
 
@@ -191,47 +291,216 @@ void validate_spec(const std::vector<Measurement>& measurements, const Spec& spe
   }
 }
 
+namespace {
+
+constexpr double coupling_tolerance = 1e-9;  // volts per volt: "does not reach"
+
+// Compiles a trip-point measurement: three probes (rest, unit source, unit level) of the
+// DC analysis with every deciding op-amp held.
+void compile_trip(const Network& network, PlanBuilder& builder, const Measurement& m,
+                  const std::vector<std::size_t>& deciding, CompiledMeasurement& cm) {
+  const Circuit& c = network.circuit();
+  const std::size_t u = c.find_element(m.opamp);
+  const std::size_t src = c.find_element(m.inputs[0]);
+  const Element& amp = c.elements()[u];
+  Excitation rest;
+  rest.overrides = {{src, 0.0}};
+  Excitation unit;
+  unit.sources_at_value = false;
+  unit.opamp_errors = false;
+  unit.overrides = {{src, 1.0}};
+  Excitation level;
+  level.sources_at_value = false;
+  level.opamp_errors = false;
+  level.output_levels = {{u, 1.0}};
+  const auto affine = [&](std::size_t plus, std::size_t minus) {
+    return AffineProbes{builder.probe(0.0, deciding, rest, plus, minus),
+                        builder.probe(0.0, deciding, unit, plus, minus),
+                        builder.probe(0.0, deciding, level, plus, minus)};
+  };
+  cm.input = affine(network.node_index(amp.nodes[0]), network.node_index(amp.nodes[1]));
+  if (m.output.empty()) {
+    cm.plus = network.node_index(amp.nodes[2]);
+    cm.minus = Network::npos;
+  }
+  cm.output = affine(cm.plus, cm.minus);
+  cm.opamp = u;
+  cm.source_value = c.elements()[src].parameters.front();
+  cm.open_loop_gain = amp.parameters[0];
+  cm.offset = amp.parameters[2];
+  cm.model = amp.model;
+  cm.linear = false;
+}
+
+// V(plus) - V(minus) of a solution.
+double read(const double* x, std::size_t plus, std::size_t minus) {
+  return (plus == Network::npos ? 0.0 : x[plus]) - (minus == Network::npos ? 0.0 : x[minus]);
+}
+
+// Checks the trip-point measurements at nominal values and finds the linear op-amps each
+// one relies on. Skipped when the held network is singular at nominal (the study reports it).
+void check_trips(const Network& network, PlanBuilder& builder, Plan& plan,
+                 const std::vector<Measurement>& measurements,
+                 const std::vector<std::size_t>& deciding) {
+  const Circuit& c = network.circuit();
+  std::vector<double> theta;
+  for (const auto& p : c.parameters()) theta.push_back(p.nominal);
+  auto ws = network.make_workspace(2);
+  if (network.factor_dc(theta.data(), ws, deciding) != SolveStatus::ok) return;
+  for (std::size_t i = 0; i < measurements.size(); ++i) {
+    const Measurement& m = measurements[i];
+    if (!is_trip_point(m.kind)) continue;
+    const CompiledMeasurement cm = plan.measurements[i];
+    const Element& amp = c.elements()[cm.opamp];
+    const std::size_t ip = network.node_index(amp.nodes[0]);
+    const std::size_t im = network.node_index(amp.nodes[1]);
+    const bool threshold = is_threshold(m.kind);
+    // Copies: the probes added below grow the plan.
+    const std::vector<Excitation> exs =
+        plan.analyses[plan.probes[cm.input.rest].analysis].excitations;
+    const Excitation rest = exs[plan.probes[cm.input.rest].excitation];
+    const Excitation unit = exs[plan.probes[cm.input.source].excitation];
+    const Excitation level = exs[plan.probes[cm.input.level].excitation];
+
+    if (threshold) {
+      const double* x = network.solve_dc(theta.data(), unit, ws, 0);
+      if (!(std::abs(read(x, ip, im)) > 1e-12)) {
+        throw DesignError("measurement '" + m.name + "': the source '" + m.inputs[0] +
+                          "' does not reach the inputs of op-amp '" + m.opamp +
+                          "' while its output is held at a limit, so it cannot trip it");
+      }
+    }
+    // Another held op-amp whose output moves this one's inputs (or the measured output):
+    // its state at this trip point is unknown to lotwise.
+    for (const std::size_t j : deciding) {
+      if (j == cm.opamp) continue;
+      Excitation other;
+      other.sources_at_value = false;
+      other.opamp_errors = false;
+      other.output_levels = {{j, 1.0}};
+      const double* x = network.solve_dc(theta.data(), other, ws, 0);
+      const double moved = threshold ? read(x, ip, im) : read(x, cm.plus, cm.minus);
+      if (std::abs(moved) > coupling_tolerance) {
+        throw DesignError("measurement '" + m.name + "': the " +
+                          (threshold ? "inputs of op-amp '" + m.opamp + "'"
+                                     : std::string("measured output")) +
+                          " depend on the output of op-amp '" + c.elements()[j].name +
+                          "', which is itself a deciding op-amp; its state at this trip point "
+                          "is unknown, so lotwise cannot compute it (use dc_sweep)");
+      }
+    }
+    // Linear op-amps with limits whose output reaches what this measurement reads: an
+    // offset step on each shows whether it does.
+    const double* base = network.solve_dc(theta.data(), rest, ws, 0);
+    for (std::size_t w = 0; w < c.elements().size(); ++w) {
+      const Element& el = c.elements()[w];
+      if (el.kind != ElementKind::opamp) continue;
+      if (std::find(deciding.begin(), deciding.end(), w) != deciding.end()) continue;
+      const OutputLimits l = network.output_limits(theta.data(), w);
+      if (std::isinf(l.low) && std::isinf(l.high)) continue;
+      std::vector<double> moved_theta = theta;
+      moved_theta[el.parameters[2]] += 1.0;
+      const double* x = network.solve_dc(moved_theta.data(), rest, ws, 1);
+      Watch watch;
+      watch.element = w;
+      watch.moves_input = threshold && std::abs(read(x, ip, im) - read(base, ip, im)) > coupling_tolerance;
+      watch.moves_output = !threshold && std::abs(read(x, cm.plus, cm.minus) -
+                                                  read(base, cm.plus, cm.minus)) > coupling_tolerance;
+      if (!watch.moves_input && !watch.moves_output) continue;
+      const std::size_t out = network.node_index(el.nodes[2]);
+      watch.output = AffineProbes{builder.probe(0.0, deciding, rest, out, Network::npos),
+                                  builder.probe(0.0, deciding, unit, out, Network::npos),
+                                  builder.probe(0.0, deciding, level, out, Network::npos)};
+      plan.measurements[i].watches.push_back(watch);
+    }
+  }
+}
+
+}  // namespace
+
 Plan make_plan(const Network& network, const std::vector<Measurement>& measurements) {
   Plan plan;
   PlanBuilder builder(network, plan);
   const Circuit& c = network.circuit();
+  const std::vector<std::size_t> none;
+  // Every deciding op-amp is held in the trip-point analysis: one factorisation serves all.
+  std::vector<std::size_t> deciding;
   for (const Measurement& m : measurements) {
-    const std::size_t plus = network.node_index(m.output[0]);
-    const std::size_t minus = m.output.size() > 1 ? network.node_index(m.output[1]) : Network::npos;
-    CompiledMeasurement cm{m.kind, 0, 0, Network::npos, Network::npos, m.frequency, {}, plus, minus, 0.0};
+    if (!is_trip_point(m.kind)) continue;
+    const std::size_t u = c.find_element(m.opamp);
+    if (std::find(deciding.begin(), deciding.end(), u) == deciding.end()) deciding.push_back(u);
+  }
+  std::sort(deciding.begin(), deciding.end());
+  bool any_linear = false;
+  for (const Measurement& m : measurements) {
+    CompiledMeasurement cm;
+    cm.kind = m.kind;
+    cm.frequency = m.frequency;
+    cm.target = m.target;
+    if (!m.output.empty()) {
+      cm.plus = network.node_index(m.output[0]);
+      cm.minus = m.output.size() > 1 ? network.node_index(m.output[1]) : Network::npos;
+    }
+    const std::size_t plus = cm.plus;
+    const std::size_t minus = cm.minus;
     switch (m.kind) {
       case MeasurementKind::gain:
       case MeasurementKind::differential_gain:
-        cm.first = builder.probe(m.frequency, signal_drive(c, m), plus, minus);
+      case MeasurementKind::phase:
+      case MeasurementKind::gain_error:
+        cm.first = builder.probe(m.frequency, none, signal_drive(c, m), plus, minus);
         break;
       case MeasurementKind::common_mode_gain:
-        cm.first = builder.probe(m.frequency, common_drive(c, m), plus, minus);
+        cm.first = builder.probe(m.frequency, none, common_drive(c, m), plus, minus);
         break;
       case MeasurementKind::cmrr:
-        cm.first = builder.probe(m.frequency, signal_drive(c, m), plus, minus);
-        cm.second = builder.probe(m.frequency, common_drive(c, m), plus, minus);
+        cm.first = builder.probe(m.frequency, none, signal_drive(c, m), plus, minus);
+        cm.second = builder.probe(m.frequency, none, common_drive(c, m), plus, minus);
         break;
       case MeasurementKind::output_offset:
       case MeasurementKind::input_offset:
         // By superposition, output(op. point) - signal gain * applied signal is the output
         // with the signal removed but the inputs' common-mode level kept.
-        cm.first = builder.probe(0.0, Excitation{}, plus, minus);
-        cm.second = builder.probe(0.0, signal_drive(c, m), plus, minus);
+        cm.first = builder.probe(0.0, none, Excitation{}, plus, minus);
+        cm.second = builder.probe(0.0, none, signal_drive(c, m), plus, minus);
         cm.signal_plus = c.elements()[source_index(c, m.inputs[0])].parameters.front();
         if (m.inputs.size() > 1) {
           cm.signal_minus = c.elements()[source_index(c, m.inputs[1])].parameters.front();
         }
         break;
       case MeasurementKind::node_voltage:
-        cm.first = builder.probe(0.0, Excitation{}, plus, minus);
+        cm.first = builder.probe(0.0, none, Excitation{}, plus, minus);
         break;
       case MeasurementKind::bandwidth:
         cm.drive = signal_drive(c, m);
-        cm.first = builder.probe(0.0, cm.drive, plus, minus);
+        cm.first = builder.probe(0.0, none, cm.drive, plus, minus);
+        break;
+      case MeasurementKind::rising_threshold:
+      case MeasurementKind::falling_threshold:
+      case MeasurementKind::hysteresis:
+      case MeasurementKind::threshold_centre:
+      case MeasurementKind::output_high:
+      case MeasurementKind::output_low:
+        compile_trip(network, builder, m, deciding, cm);
         break;
     }
+    any_linear = any_linear || cm.linear;
     plan.measurements.push_back(cm);
   }
+  // Linear measurements assume every op-amp works linearly at the operating point.
+  if (any_linear) {
+    std::vector<double> theta;
+    for (const auto& p : c.parameters()) theta.push_back(p.nominal);
+    for (std::size_t e = 0; e < c.elements().size(); ++e) {
+      if (c.elements()[e].kind != ElementKind::opamp) continue;
+      const OutputLimits l = network.output_limits(theta.data(), e);
+      if (std::isinf(l.low) && std::isinf(l.high)) continue;
+      plan.limit_checks.push_back(LimitCheck{
+          e, builder.probe(0.0, none, Excitation{}, network.node_index(c.elements()[e].nodes[2]),
+                           Network::npos)});
+    }
+  }
+  if (!deciding.empty()) check_trips(network, builder, plan, measurements, deciding);
   return plan;
 }
 
@@ -239,16 +508,19 @@ Evaluator::Evaluator(const Network& network, const Plan& plan)
     : network_(network),
       plan_(plan),
       workspace_(network.make_workspace(plan.slots)),
-      probe_values_(plan.probes.size()) {}
+      probe_values_(plan.probes.size()),
+      saturated_(plan.measurements.size(), 0) {}
 
 SolveStatus Evaluator::evaluate(const double* theta, double* values) {
   for (std::size_t a = 0; a < plan_.analyses.size(); ++a) {
     const Analysis& analysis = plan_.analyses[a];
     const bool dc = analysis.frequency == 0.0;
-    const SolveStatus status = dc ? network_.factor_dc(theta, workspace_)
+    const SolveStatus status = dc ? network_.factor_dc(theta, workspace_, analysis.held)
                                   : network_.factor_ac(theta, analysis.frequency, workspace_);
     if (status != SolveStatus::ok) {
       for (std::size_t i = 0; i < plan_.measurements.size(); ++i) values[i] = nan;
+      std::fill(saturated_.begin(), saturated_.end(), static_cast<unsigned char>(0));
+      saturated_opamp_ = Network::npos;
       return status;
     }
     for (std::size_t e = 0; e < analysis.excitations.size(); ++e) {
@@ -271,9 +543,27 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
       probe_values_[p] = v;
     }
   }
+  // An op-amp beyond its limits at the operating point: the linear model no longer
+  // describes the circuit, so every linear measurement is withheld.
+  std::fill(saturated_.begin(), saturated_.end(), static_cast<unsigned char>(0));
+  saturated_opamp_ = Network::npos;
+  bool operating_point_saturated = false;
+  for (const LimitCheck& check : plan_.limit_checks) {
+    const double v = probe_values_[check.probe].real();
+    const OutputLimits l = network_.output_limits(theta, check.element);
+    if (v > l.high || v < l.low) {
+      operating_point_saturated = true;
+      saturated_opamp_ = check.element;
+    }
+  }
   SolveStatus status = SolveStatus::ok;
   for (std::size_t i = 0; i < plan_.measurements.size(); ++i) {
     const CompiledMeasurement& m = plan_.measurements[i];
+    if (m.linear && operating_point_saturated) {
+      values[i] = nan;
+      saturated_[i] = 1;
+      continue;
+    }
     const std::complex<double> first = probe_values_[m.first];
     const bool at_dc = m.frequency == 0.0;
     switch (m.kind) {
@@ -306,9 +596,87 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
         values[i] = bandwidth(m, theta, std::abs(first), status);
         if (status != SolveStatus::ok) return status;
         break;
+      case MeasurementKind::phase:
+        values[i] = std::arg(first) * (180.0 / 3.14159265358979323846);
+        break;
+      case MeasurementKind::gain_error: {
+        const double gain = at_dc ? first.real() : std::abs(first);
+        values[i] = (gain - m.target) / m.target;
+        break;
+      }
+      case MeasurementKind::rising_threshold:
+      case MeasurementKind::falling_threshold:
+      case MeasurementKind::hysteresis:
+      case MeasurementKind::threshold_centre:
+      case MeasurementKind::output_high:
+      case MeasurementKind::output_low:
+        values[i] = trip_point(m, theta, i);
+        break;
     }
   }
   return status;
+}
+
+bool Evaluator::watches_hold(const CompiledMeasurement& m, const double* theta, double s,
+                             double level, bool input) {
+  for (const Watch& w : m.watches) {
+    if (input ? !w.moves_input : !w.moves_output) continue;
+    const double v = probe_values_[w.output.rest].real() +
+                     s * probe_values_[w.output.source].real() +
+                     level * probe_values_[w.output.level].real();
+    const OutputLimits l = network_.output_limits(theta, w.element);
+    if (v > l.high || v < l.low) {
+      saturated_opamp_ = w.element;
+      return false;
+    }
+  }
+  return true;
+}
+
+// With the deciding op-amp's output held at L, its differential input e = V(+) - V(-) + Vos
+// is affine in the driving source s. It holds L while A0 * e lies beyond L, so it leaves L
+// where e = L / A0 (e = 0 for the ideal model): each threshold is the root of an affine
+// function. The state held before a rising crossing is the low limit when the source
+// pushes e upwards (a non-inverting decision) and the high limit otherwise.
+double Evaluator::trip_point(const CompiledMeasurement& m, const double* theta, std::size_t index) {
+  const OutputLimits lim = network_.output_limits(theta, m.opamp);
+  if (m.kind == MeasurementKind::output_high || m.kind == MeasurementKind::output_low) {
+    const double level = m.kind == MeasurementKind::output_high ? lim.high : lim.low;
+    const double s = theta[m.source_value];
+    if (!watches_hold(m, theta, s, level, false)) {
+      saturated_[index] = 1;
+      return nan;
+    }
+    return probe_values_[m.output.rest].real() + s * probe_values_[m.output.source].real() +
+           level * probe_values_[m.output.level].real();
+  }
+  const double slope = probe_values_[m.input.source].real();
+  if (!(slope != 0.0) || !std::isfinite(slope)) return nan;
+  const double inverse_gain = m.model == OpAmpModel::ideal ? 0.0 : 1.0 / theta[m.open_loop_gain];
+  const double e0 = probe_values_[m.input.rest].real() + theta[m.offset];
+  const double per_level = probe_values_[m.input.level].real() - inverse_gain;
+  const double before_rise = slope > 0.0 ? lim.low : lim.high;
+  const double before_fall = slope > 0.0 ? lim.high : lim.low;
+  const double rising = -(e0 + before_rise * per_level) / slope;
+  const double falling = -(e0 + before_fall * per_level) / slope;
+  bool linear_parts_ok = true;
+  if (m.kind != MeasurementKind::falling_threshold) {
+    linear_parts_ok = watches_hold(m, theta, rising, before_rise, true);
+  }
+  if (linear_parts_ok && m.kind != MeasurementKind::rising_threshold) {
+    linear_parts_ok = watches_hold(m, theta, falling, before_fall, true);
+  }
+  if (!linear_parts_ok) {
+    saturated_[index] = 1;
+    return nan;
+  }
+  switch (m.kind) {
+    case MeasurementKind::rising_threshold: return rising;
+    case MeasurementKind::falling_threshold: return falling;
+    case MeasurementKind::hysteresis: return rising - falling;
+    case MeasurementKind::threshold_centre: return 0.5 * (rising + falling);
+    default: return nan;
+  }
 }
 
 // Root of log|H(f)| - log|H(0)| + ln(2)/2 in log-frequency, bracketed by stepping by

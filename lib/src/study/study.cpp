@@ -1,5 +1,7 @@
 #include "lotwise/study.hpp"
 
+#include <cmath>
+#include <cstdio>
 #include <string>
 #include <utility>
 
@@ -31,10 +33,41 @@ std::vector<double> nominal_of(const Circuit& circuit) {
 
 }  // namespace
 
+std::string Study::Impl::saturation_message(const detail::Evaluator& evaluator) const {
+  const std::size_t e = evaluator.saturated_opamp();
+  const Element& amp = design.circuit.elements()[e];
+  const OutputLimits l = network.output_limits(nominal_parameters.data(), e);
+  std::string linear, trip;
+  for (std::size_t i = 0; i < design.measurements.size(); ++i) {
+    if (!evaluator.saturated()[i]) continue;
+    std::string& list = is_trip_point(design.measurements[i].kind) ? trip : linear;
+    list += (list.empty() ? "'" : ", '") + design.measurements[i].name + "'";
+  }
+  char limits[96];
+  std::snprintf(limits, sizeof limits, "%g V to %g V", l.low, l.high);
+  std::string text = "at nominal values, op-amp '" + amp.name + "' is saturated: ";
+  if (!linear.empty()) {
+    // The operating point of the all-linear network, for the message.
+    const std::vector<double> op = network.operating_point(nominal_parameters);
+    const std::size_t out = network.node_index(amp.nodes[2]);
+    char level[48];
+    std::snprintf(level, sizeof level, "%g V", out == Network::npos ? 0.0 : op[out]);
+    text += "its output would sit at " + std::string(level) + " at the operating point, beyond "
+            "its output range of " + limits + ", so the linear measurements " + linear +
+            " would be wrong. An op-amp with no negative feedback (a comparator) is measured "
+            "with the trip-point kinds; otherwise check the feedback network, the supplies "
+            "and the input levels";
+  } else {
+    text += "at a trip point of " + trip + " its output would pass its range of " + limits +
+            ", so the trip point it helps set would be wrong; check its supplies and input levels";
+  }
+  return text;
+}
+
 Study::Impl::Impl(Design d)
     : design(checked(std::move(d))),
       network(design.circuit),
-      sampler(design.circuit, design.variations),
+      model(design.circuit, design.variations, design.correlations, design.temperature),
       plan(detail::make_plan(network, design.measurements)),
       nominal_parameters(nominal_of(design.circuit)),
       nominal_values(design.measurements.size()) {
@@ -42,15 +75,28 @@ Study::Impl::Impl(Design d)
   if (evaluator.evaluate(nominal_parameters.data(), nominal_values.data()) != SolveStatus::ok) {
     for (const auto& analysis : plan.analyses) {
       auto ws = network.make_workspace();
-      const SolveStatus s = analysis.frequency == 0.0
-                                ? network.factor_dc(nominal_parameters.data(), ws)
-                                : network.factor_ac(nominal_parameters.data(), analysis.frequency, ws);
+      const SolveStatus s =
+          analysis.frequency == 0.0
+              ? network.factor_dc(nominal_parameters.data(), ws, analysis.held)
+              : network.factor_ac(nominal_parameters.data(), analysis.frequency, ws);
       if (s != SolveStatus::ok) {
         throw CircuitError("at nominal values, " +
-                           network.diagnose_singular(nominal_parameters.data(), analysis.frequency));
+                           network.diagnose_singular(nominal_parameters.data(), analysis.frequency,
+                                                     analysis.held));
       }
     }
     throw CircuitError("at nominal values, a bandwidth search met a singular frequency");
+  }
+  // A design that saturates at nominal asks a linear question of a circuit that is not
+  // working linearly: an error, not a yield of zero.
+  if (evaluator.any_saturated()) throw CircuitError(saturation_message(evaluator));
+  for (std::size_t i = 0; i < plan.measurements.size(); ++i) {
+    if (is_trip_point(design.measurements[i].kind) && std::isnan(nominal_values[i])) {
+      throw CircuitError("at nominal values, measurement '" + design.measurements[i].name +
+                         "' has no trip point: the source '" + design.measurements[i].inputs[0] +
+                         "' does not move the inputs of op-amp '" + design.measurements[i].opamp +
+                         "'");
+    }
   }
   // Each sample's bandwidth search starts from the nominal bandwidth.
   for (std::size_t i = 0; i < plan.measurements.size(); ++i) {
@@ -83,9 +129,15 @@ std::vector<double> Study::nominal_parameters() const { return impl_->nominal_pa
 
 std::vector<std::string> Study::varied_parameters() const {
   std::vector<std::string> names;
-  for (const auto& c : impl_->sampler.coordinates()) {
-    names.push_back(impl_->design.circuit.parameters()[c.parameter].name);
+  for (const auto& e : impl_->model.entries()) {
+    if (e.varies) names.push_back(impl_->design.circuit.parameters()[e.parameter].name);
   }
+  return names;
+}
+
+std::vector<std::string> Study::coordinate_names() const {
+  std::vector<std::string> names;
+  for (const auto& c : impl_->model.coordinates()) names.push_back(c.name);
   return names;
 }
 
@@ -100,7 +152,8 @@ SampleStatus Study::evaluate(const std::vector<double>& parameters,
   values.assign(impl_->design.measurements.size(), 0.0);
   detail::Evaluator evaluator(impl_->network, impl_->plan);
   switch (evaluator.evaluate(parameters.data(), values.data())) {
-    case SolveStatus::ok: return SampleStatus::ok;
+    case SolveStatus::ok:
+      return evaluator.any_saturated() ? SampleStatus::saturated : SampleStatus::ok;
     case SolveStatus::singular: return SampleStatus::singular;
     case SolveStatus::invalid_value: return SampleStatus::invalid_value;
   }
@@ -114,6 +167,10 @@ YieldResult Study::run() const {
   options.samples = impl_->design.run.samples;
   options.seed = impl_->design.run.seed;
   options.threads = impl_->design.run.threads;
+  options.sampler = impl_->design.run.sampler;
+  options.replicates = impl_->design.run.replicates;
+  options.confidence = impl_->design.run.confidence;
+  options.target_half_width = impl_->design.run.target_half_width;
   return run(options);
 }
 

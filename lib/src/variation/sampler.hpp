@@ -1,12 +1,10 @@
 #pragma once
-// Private: maps standard random coordinates to parameter values.
+// Private: target patterns, checks of a variation, and per-chunk random streams.
 #include <cstdint>
 #include <string>
 #include <vector>
 
 #include <boost/random/mersenne_twister.hpp>
-#include <boost/random/normal_distribution.hpp>
-#include <boost/random/uniform_01.hpp>
 
 #include "lotwise/circuit.hpp"
 #include "lotwise/variation.hpp"
@@ -21,48 +19,26 @@ bool matches(const std::string& pattern, const std::string& name);
 /// matches nothing or the tolerance cannot apply (relative spread on a zero nominal).
 std::vector<std::size_t> resolve_targets(const Circuit& circuit, const Variation& variation);
 
-/// Checks a variation's numbers (tolerance, sigmas); throws DesignError.
+/// Indices of the parameters a list of names or patterns selects, each once, in the
+/// order found; throws DesignError if one selects nothing.
+std::vector<std::size_t> resolve_names(const Circuit& circuit,
+                                       const std::vector<std::string>& names);
+
+/// Checks a variation's numbers and their combination; throws DesignError.
 void validate_variation(const Variation& variation);
 
-/// One random coordinate: value = nominal + scale * u, with u standard normal, or
-/// value = nominal + scale * (2u - 1) with u standard uniform.
-struct Coordinate {
-  std::size_t parameter;
-  Distribution distribution;
-  double scale;
-};
+/// Checks an operating-temperature setting; throws DesignError.
+void validate_temperature(const Temperature& temperature);
 
 using Engine = boost::random::mt19937_64;
 
-/// The seed of chunk `chunk`'s stream: depends only on (seed, chunk).
+/// The seed of stream `chunk` of `seed`: depends only on (seed, chunk).
 std::uint64_t chunk_seed(std::uint64_t seed, std::uint64_t chunk);
 
-class Sampler {
- public:
-  Sampler(const Circuit& circuit, const std::vector<Variation>& variations);
-
-  std::size_t dimension() const { return coordinates_.size(); }
-  const std::vector<Coordinate>& coordinates() const { return coordinates_; }
-
-  /// Overwrites the varied entries of `theta` (which holds the nominal values) with a draw.
-  void draw(Engine& engine, const double* nominal, double* theta) const {
-    for (const Coordinate& c : coordinates_) {
-      double u;
-      if (c.distribution == Distribution::normal) {
-        u = normal_(engine);
-      } else {
-        u = 2.0 * uniform_(engine) - 1.0;
-      }
-      theta[c.parameter] = nominal[c.parameter] + c.scale * u;
-    }
-  }
-
- private:
-  std::vector<Coordinate> coordinates_;
-  // Both are stateless for our use: Boost's normal_distribution is a ziggurat that
-  // keeps no cached second value, so draws depend only on the engine.
-  mutable boost::random::normal_distribution<double> normal_;
-  mutable boost::random::uniform_01<double> uniform_;
-};
+/// A uniform draw on the open interval (0, 1): the top 53 bits of one engine output,
+/// centred in their cell, so that inverse distribution functions never see 0 or 1.
+inline double uniform_open(Engine& engine) {
+  return (static_cast<double>(engine() >> 11) + 0.5) * 0x1.0p-53;
+}
 
 }  // namespace lotwise::detail

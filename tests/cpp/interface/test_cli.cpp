@@ -87,7 +87,9 @@ TEST_CASE("cli: check prints the nominal values of an example", "[cli]") {
 
 TEST_CASE("cli: run prints the yield table with the caution", "[cli]") {
   ScratchDir dir;
-  for (const char* name : {"load_cell_amp_1pct.toml", "load_cell_amp_01pct.toml"}) {
+  for (const char* name : {"load_cell_amp_1pct.toml", "load_cell_amp_01pct.toml",
+                           "over_temperature_trip.toml", "sump_pump_level_switch.toml",
+                           "antialias_lowpass.toml"}) {
     INFO(name);
     const auto r = lotwise_cli({"run", example_path(name), "-n", "2000"}, dir);
     INFO("stderr: " << r.err);

@@ -1,0 +1,99 @@
+#pragma once
+// Private: the variation model of a study. Every random input is one standard coordinate
+// (standard normal or uniform on (0, 1)); samplers fill points of coordinates and this
+// model maps a point to parameter values: correlation through a Cholesky factor (Gaussian
+// copula), each law's inverse distribution function, lot and matched-network shares, and
+// temperature coefficients.
+#include <cstddef>
+#include <string>
+#include <vector>
+
+#include "lotwise/circuit.hpp"
+#include "lotwise/variation.hpp"
+#include "variation/spread.hpp"
+
+namespace lotwise::detail {
+
+/// One random input. A sampler gives a standard normal value where `normal`, else a
+/// uniform one on [0, 1] (on (0, 1) for the quasi-random samplers).
+struct Coordinate {
+  bool normal = false;
+  std::string name;  ///< "R1", "R1.tempco", "lot of [[vary]] 1", "temperature", ...
+};
+
+/// One deviation: coordinate -> law -> times `scale` -> added to a parameter's value
+/// deviation or, for a coefficient term, to its temperature coefficient.
+struct Term {
+  std::size_t coordinate;
+  std::size_t entry;
+  bool coefficient;
+  Spread spread;
+  double scale;  ///< |nominal| for relative value deviations, else 1
+};
+
+/// One parameter a variation covers.
+struct Entry {
+  std::size_t parameter;
+  double nominal;
+  double coefficient;         ///< nominal temperature coefficient
+  bool relative_coefficient;  ///< coefficient per kelvin relative to the value, else absolute
+  bool varies;                ///< has a random term or a coefficient
+};
+
+/// Per-thread scratch of one build; made by VariationModel::make_scratch.
+struct BuildScratch {
+  std::vector<double> x;            ///< the point after correlation
+  std::vector<double> z;            ///< correlated normal scores before mixing
+  std::vector<double> deviation;    ///< per entry, in the parameter's unit
+  std::vector<double> coefficient;  ///< per entry
+  double temperature = 0.0;         ///< the build's drawn temperature
+};
+
+class VariationModel {
+ public:
+  /// Resolves targets and correlations and checks them; throws DesignError naming the
+  /// variation, the parameters or the pair of a correlation at fault.
+  VariationModel(const Circuit& circuit, const std::vector<Variation>& variations,
+                 const std::vector<Correlation>& correlations, const Temperature& temperature);
+
+  std::size_t dimension() const { return coordinates_.size(); }
+  const std::vector<Coordinate>& coordinates() const { return coordinates_; }
+  const std::vector<Entry>& entries() const { return entries_; }
+  const Temperature& temperature() const { return temperature_; }
+
+  /// Evaluations per build: one per operating temperature, at least one.
+  std::size_t evaluations() const {
+    return temperature_.operating.empty() ? 1 : temperature_.operating.size();
+  }
+
+  BuildScratch make_scratch() const;
+
+  /// Maps one point (dimension() native coordinates) to the build's deviations.
+  /// Allocates nothing.
+  void prepare(const double* point, BuildScratch& s) const;
+
+  /// Temperature of evaluation `q` of the prepared build.
+  double temperature_of(const BuildScratch& s, std::size_t q) const {
+    if (temperature_.drawn) return s.temperature;
+    return temperature_.operating.empty() ? temperature_.reference : temperature_.operating[q];
+  }
+
+  /// Writes the covered parameters' values at `celsius` into theta (which holds the
+  /// nominal values elsewhere). Allocates nothing.
+  void apply(const BuildScratch& s, double celsius, double* theta) const;
+
+ private:
+  std::size_t add_coordinate(bool normal, std::string name);
+  void set_correlations(const Circuit& circuit, const std::vector<Correlation>& correlations,
+                        const std::vector<std::size_t>& part_coordinate);
+
+  std::vector<Coordinate> coordinates_;
+  std::vector<Term> terms_;
+  std::vector<Entry> entries_;
+  Temperature temperature_;
+  std::size_t temperature_coordinate_ = static_cast<std::size_t>(-1);
+  std::vector<std::size_t> correlated_;  ///< coordinates mixed by the Cholesky factor
+  std::vector<double> cholesky_;         ///< lower factor, row-major, correlated_.size()^2
+};
+
+}  // namespace lotwise::detail

@@ -1,0 +1,195 @@
+#include "variation/points.hpp"
+
+#include <utility>
+
+#include <boost/random/sobol.hpp>
+#include <boost/random/uniform_int_distribution.hpp>
+
+#include "lotwise/error.hpp"
+#include "variation/spread.hpp"
+
+namespace lotwise {
+
+const char* to_string(Sampler sampler) {
+  switch (sampler) {
+    case Sampler::monte_carlo: return "monte_carlo";
+    case Sampler::sobol: return "sobol";
+    case Sampler::latin_hypercube: return "latin_hypercube";
+  }
+  return "?";
+}
+
+namespace detail {
+namespace {
+
+inline bool parity(std::uint64_t x) {
+#if defined(__GNUC__) || defined(__clang__)
+  return __builtin_parityll(x) != 0;
+#else
+  x ^= x >> 32; x ^= x >> 16; x ^= x >> 8; x ^= x >> 4; x ^= x >> 2; x ^= x >> 1;
+  return (x & 1u) != 0;
+#endif
+}
+
+// Index of the lowest set bit of x > 0: the Gray-code bit that flips going to x.
+inline unsigned lowest_bit(std::uint64_t x) {
+#if defined(__GNUC__) || defined(__clang__)
+  return static_cast<unsigned>(__builtin_ctzll(x));
+#else
+  unsigned b = 0;
+  while (!(x & 1u)) { x >>= 1; ++b; }
+  return b;
+#endif
+}
+
+}  // namespace
+
+std::size_t sobol_max_dimension() { return boost::random::default_sobol_table::max_dimension; }
+
+SobolDirections::SobolDirections(std::size_t dimension)
+    : dimension_(dimension), v_(64 * dimension) {
+  if (dimension > sobol_max_dimension()) {
+    throw RunError("the sobol sampler supports up to " + std::to_string(sobol_max_dimension()) +
+                   " random coordinates; this design has " + std::to_string(dimension) +
+                   " (use monte_carlo or latin_hypercube)");
+  }
+  if (dimension == 0) return;
+  boost::random::sobol engine(dimension);
+  for (unsigned b = 0; b < 64; ++b) {
+    // seed(n) makes the next point number n + 1; the Gray code of 2^(b+1) - 1 is 2^b.
+    const std::uint64_t last = b == 63 ? ~std::uint64_t{0} : (std::uint64_t{1} << (b + 1)) - 1;
+    engine.seed(last - 1);
+    for (std::size_t j = 0; j < dimension; ++j) v_[b * dimension + j] = engine();
+  }
+}
+
+void sobol_point(const SobolDirections& directions, std::uint64_t index, std::uint64_t* out) {
+  const std::uint64_t gray = index ^ (index >> 1);
+  for (std::size_t j = 0; j < directions.dimension(); ++j) {
+    std::uint64_t x = 0;
+    for (unsigned b = 0; b < 64; ++b) {
+      if ((gray >> b) & 1u) x ^= directions.at(b, j);
+    }
+    out[j] = x;
+  }
+}
+
+void scramble_sobol(const SobolDirections& directions, Engine& engine, std::uint64_t* scrambled,
+                    std::uint64_t* shift) {
+  const std::size_t d = directions.dimension();
+  std::uint64_t rows[64];
+  for (std::size_t j = 0; j < d; ++j) {
+    // Lower-triangular in the digits (most significant first) with a unit diagonal:
+    // output bit p depends on input bit p and random ones of the more significant bits.
+    for (unsigned p = 0; p < 64; ++p) {
+      const std::uint64_t above = p == 63 ? 0 : ~std::uint64_t{0} << (p + 1);
+      rows[p] = (engine() & above) | (std::uint64_t{1} << p);
+    }
+    shift[j] = engine();
+    for (unsigned b = 0; b < 64; ++b) {
+      const std::uint64_t v = directions.at(b, j);
+      std::uint64_t y = 0;
+      for (unsigned p = 0; p < 64; ++p) y |= static_cast<std::uint64_t>(parity(rows[p] & v)) << p;
+      scrambled[b * d + j] = y;
+    }
+  }
+}
+
+std::uint64_t replicate_seed(std::uint64_t seed, std::uint64_t replicate) {
+  return chunk_seed(~seed, replicate);
+}
+
+PointStream::PointStream(const VariationModel& model, Sampler sampler, std::uint32_t chunk_size,
+                         const SobolDirections* directions)
+    : model_(model),
+      sampler_(sampler),
+      directions_(directions),
+      dimension_(model.dimension()),
+      point_(model.dimension()) {
+  if (sampler_ == Sampler::sobol) {
+    if (!directions_ || directions_->dimension() != dimension_) {
+      throw Error("internal: the sobol sampler needs direction numbers of the model's dimension");
+    }
+    scrambled_.resize(64 * dimension_);
+    shift_.resize(dimension_);
+    state_.resize(dimension_);
+  } else if (sampler_ == Sampler::latin_hypercube) {
+    block_.resize(static_cast<std::size_t>(chunk_size) * dimension_);
+    order_.resize(chunk_size);
+  }
+}
+
+void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t replicate,
+                        std::uint64_t begin, std::size_t count) {
+  const auto& coordinates = model_.coordinates();
+  switch (sampler_) {
+    case Sampler::monte_carlo:
+      engine_.seed(chunk_seed(seed, chunk));
+      break;
+    case Sampler::sobol: {
+      if (replicate != replicate_ || seed != seed_ || scrambled_.empty()) {
+        Engine engine(replicate_seed(seed, replicate));
+        scramble_sobol(*directions_, engine, scrambled_.data(), shift_.data());
+        replicate_ = replicate;
+        seed_ = seed;
+      }
+      index_ = begin;
+      const std::uint64_t gray = begin ^ (begin >> 1);
+      for (std::size_t j = 0; j < dimension_; ++j) {
+        std::uint64_t x = shift_[j];
+        for (unsigned b = 0; b < 64; ++b) {
+          if ((gray >> b) & 1u) x ^= scrambled_[b * dimension_ + j];
+        }
+        state_[j] = x;
+      }
+      break;
+    }
+    case Sampler::latin_hypercube: {
+      // McKay, Beckman & Conover: in every coordinate, one point in each of `count`
+      // equal strata, the strata paired at random between coordinates.
+      engine_.seed(chunk_seed(seed, chunk));
+      const auto n = static_cast<std::uint32_t>(count);
+      for (std::size_t j = 0; j < dimension_; ++j) {
+        for (std::uint32_t i = 0; i < n; ++i) order_[i] = i;
+        for (std::uint32_t i = n; i > 1; --i) {
+          const std::uint32_t k = boost::random::uniform_int_distribution<std::uint32_t>(0, i - 1)(engine_);
+          std::swap(order_[i - 1], order_[k]);
+        }
+        for (std::uint32_t i = 0; i < n; ++i) {
+          const double u = (static_cast<double>(order_[i]) + uniform_open(engine_)) / static_cast<double>(n);
+          block_[i * dimension_ + j] = coordinates[j].normal ? normal_quantile(u) : u;
+        }
+      }
+      position_ = 0;
+      break;
+    }
+  }
+}
+
+const double* PointStream::next() {
+  const auto& coordinates = model_.coordinates();
+  switch (sampler_) {
+    case Sampler::monte_carlo:
+      for (std::size_t j = 0; j < dimension_; ++j) {
+        point_[j] = coordinates[j].normal ? normal_(engine_) : uniform_(engine_);
+      }
+      return point_.data();
+    case Sampler::sobol: {
+      for (std::size_t j = 0; j < dimension_; ++j) {
+        const double u = to_unit(state_[j]);
+        point_[j] = coordinates[j].normal ? normal_quantile(u) : u;
+      }
+      ++index_;
+      const unsigned b = lowest_bit(index_);
+      for (std::size_t j = 0; j < dimension_; ++j) state_[j] ^= scrambled_[b * dimension_ + j];
+      return point_.data();
+    }
+    case Sampler::latin_hypercube:
+      if (dimension_ == 0) return point_.data();
+      return &block_[position_++ * dimension_];
+  }
+  return point_.data();
+}
+
+}  // namespace detail
+}  // namespace lotwise

@@ -1,0 +1,51 @@
+// The bounded-memory histogram: quantiles and exact, order-independent merging.
+#include <cmath>
+
+#include "test_support.hpp"
+
+using namespace lotwise;
+using namespace lotwise::testing;
+
+TEST_CASE("histogram quantiles of an evenly spread set", "[fast][histogram]") {
+  // 10000 values evenly spread over [0, 1): the p-quantile is p to within a bin.
+  Histogram h(-1.0, 2.0, 3000);
+  for (int i = 0; i < 10000; ++i) h.add((i + 0.5) / 10000.0);
+  CHECK(h.total() == 10000);
+  CHECK(h.below() == 0);
+  CHECK(h.above() == 0);
+  for (const double p : {0.025, 0.1, 0.5, 0.9, 0.975}) {
+    CAPTURE(p);
+    CHECK_THAT(h.quantile(p), close_abs(p, 1e-3));
+  }
+  const Interval c = h.coverage_interval(0.95);
+  CHECK_THAT(c.low, close_abs(0.025, 1e-3));
+  CHECK_THAT(c.high, close_abs(0.975, 1e-3));
+}
+
+TEST_CASE("histogram tails outside the range give NaN quantiles", "[fast][histogram]") {
+  Histogram h(0.0, 1.0, 10);
+  for (int i = 0; i < 90; ++i) h.add(0.55);
+  for (int i = 0; i < 10; ++i) h.add(5.0);
+  h.add(std::nan(""));  // not counted
+  CHECK(h.total() == 100);
+  CHECK(h.above() == 10);
+  CHECK(std::isnan(h.quantile(0.95)));
+  CHECK(h.quantile(0.5) >= 0.5);
+  CHECK(h.quantile(0.5) <= 0.6);
+}
+
+TEST_CASE("histogram merge is exact", "[fast][histogram]") {
+  Histogram a(0.0, 1.0, 64), b(0.0, 1.0, 64), whole(0.0, 1.0, 64);
+  for (int i = 0; i < 1000; ++i) {
+    const double x = std::fmod(i * 0.6180339887, 1.0);
+    (i % 3 ? a : b).add(x);
+    whole.add(x);
+  }
+  Histogram merged;
+  merged.merge(a);
+  merged.merge(b);
+  CHECK(merged.counts() == whole.counts());
+  CHECK(merged.quantile(0.3) == whole.quantile(0.3));
+  Histogram other(0.0, 2.0, 64);
+  CHECK_THROWS_AS(merged.merge(other), Error);
+}
