@@ -26,7 +26,7 @@ FLOATING_PART = 'C9 = { type = "capacitor", value = "1n", nodes = ["out", "probe
 FILE_CASES = [
     pytest.param(
         edited("samples = 4000", "sample = 4000"), lotwise.DesignError,
-        "<design>:50:10: unknown key 'sample' in [run] (allowed: samples, seed, threads)",
+        "<design>:50:10: unknown key 'sample' in [run] (allowed: samples, seed, threads, sampler, replicates, confidence, target_half_width)",
         id="unknown-key"),
     pytest.param(
         edited('value = "100k", nodes = ["n", "out"]', 'value = "100q", nodes = ["n", "out"]'),

@@ -237,8 +237,15 @@ void bind_study(py::module_& m) {
            py::arg("threads") = py::none(), py::arg("chunk_size") = 1024,
            py::arg("confidence") = 0.95, py::arg("keep_samples") = false,
            py::arg("progress") = py::none())
-      .def("report_json", &report_json, py::arg("result"))
-      .def("summary_table", &summary_table, py::arg("result"));
+      // Lambdas pick the (study, result) overloads; report_json has others since issue 5.
+      .def(
+          "report_json",
+          [](const Study& s, const YieldResult& r) { return report_json(s, r); },
+          py::arg("result"))
+      .def(
+          "summary_table",
+          [](const Study& s, const YieldResult& r) { return summary_table(s, r); },
+          py::arg("result"));
 
   m.def("clopper_pearson",
         [](std::uint64_t k, std::uint64_t n, double confidence) {
