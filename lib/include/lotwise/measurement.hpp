@@ -18,7 +18,7 @@ enum class MeasurementKind {
   node_voltage,       ///< DC voltage of the output at the operating point, V
   bandwidth,          ///< frequency where |gain| falls 3 dB below its DC value, Hz
   phase,              ///< phase of the gain at `frequency` (> 0), degrees in (-180, 180]
-  gain_error,         ///< (gain - target) / target, relative; gain as for `gain` / `differential_gain`
+  gain_error,         ///< (gain - target) / target, relative; one or two inputs as for `phase`
   // Trip points of a deciding op-amp (`opamp`) driven by one voltage source (`inputs`).
   // Each threshold is the source value at which the op-amp's output leaves the limit it
   // held before the source reached it (docs/methods.md, "Trip points").

@@ -299,7 +299,9 @@ OutputLimits Network::output_limits(const double* parameters, std::size_t elemen
   const std::size_t i = element < layout_->opamp_of_element.size()
                             ? layout_->opamp_of_element[element]
                             : npos;
-  if (i == npos) throw Error("output_limits: element " + std::to_string(element) + " is not an op-amp");
+  if (i == npos) {
+    throw Error("output_limits: element " + std::to_string(element) + " is not an op-amp");
+  }
   return limits_of(layout_->opamps[i], parameters);
 }
 
@@ -320,8 +322,11 @@ SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws,
   auto& d = ws.data();
   std::fill(d.held_row.begin(), d.held_row.end(), static_cast<unsigned char>(0));
   for (const std::size_t e : held_outputs) {
-    const std::size_t i = e < layout_->opamp_of_element.size() ? layout_->opamp_of_element[e] : npos;
-    if (i == npos) throw Error("factor_dc: held element " + std::to_string(e) + " is not an op-amp");
+    const std::size_t i =
+        e < layout_->opamp_of_element.size() ? layout_->opamp_of_element[e] : npos;
+    if (i == npos) {
+      throw Error("factor_dc: held element " + std::to_string(e) + " is not an op-amp");
+    }
     d.held_row[layout_->opamps[i].branch] = 1;
   }
   const SolveStatus values = check_values(parameters);

@@ -403,9 +403,10 @@ void check_trips(const Network& network, PlanBuilder& builder, Plan& plan,
       const double* x = network.solve_dc(moved_theta.data(), rest, ws, 1);
       Watch watch;
       watch.element = w;
-      watch.moves_input = threshold && std::abs(read(x, ip, im) - read(base, ip, im)) > coupling_tolerance;
-      watch.moves_output = !threshold && std::abs(read(x, cm.plus, cm.minus) -
-                                                  read(base, cm.plus, cm.minus)) > coupling_tolerance;
+      const double input_moved = read(x, ip, im) - read(base, ip, im);
+      const double output_moved = read(x, cm.plus, cm.minus) - read(base, cm.plus, cm.minus);
+      watch.moves_input = threshold && std::abs(input_moved) > coupling_tolerance;
+      watch.moves_output = !threshold && std::abs(output_moved) > coupling_tolerance;
       if (!watch.moves_input && !watch.moves_output) continue;
       const std::size_t out = network.node_index(el.nodes[2]);
       watch.output = AffineProbes{builder.probe(0.0, deciding, rest, out, Network::npos),

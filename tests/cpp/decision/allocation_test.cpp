@@ -106,7 +106,8 @@ Counts allocations_of_evaluations(const Study& study, int n, std::vector<double>
   const Counts before = counts();
   for (int k = 0; k < n; ++k) {
     for (std::size_t i = 0; i < theta.size(); ++i) {
-      const double wiggle = 1.0 + 1e-3 * static_cast<double>((k * 7 + static_cast<int>(i)) % 11 - 5);
+      const int step = (k * 7 + static_cast<int>(i)) % 11 - 5;
+      const double wiggle = 1.0 + 1e-3 * static_cast<double>(step);
       theta[i] = nominal_theta[i] * wiggle;
     }
     failures += evaluator.evaluate(theta.data(), values.data()) != SolveStatus::ok;

@@ -25,7 +25,9 @@ struct Drawn {
 class Draw {
  public:
   explicit Draw(std::uint64_t seed) : engine_(seed) {}
-  double uniform(double lo, double hi) { return std::uniform_real_distribution<double>(lo, hi)(engine_); }
+  double uniform(double lo, double hi) {
+    return std::uniform_real_distribution<double>(lo, hi)(engine_);
+  }
   double log_uniform(double lo, double hi) { return std::exp(uniform(std::log(lo), std::log(hi))); }
   bool coin() { return uniform(0.0, 1.0) < 0.5; }
 
@@ -152,8 +154,9 @@ TEST_CASE("trip points agree with the saturating sweep within 1 uV on 120 random
   for (int k = 0; k < 120; ++k) {
     const Drawn d = draw.circuit(shapes[k % 4]);
     INFO("circuit " << k << ": " << d.description);
-    const Study s = make_study(d.circuit, {trip("rise", MeasurementKind::rising_threshold, "VIN", "U1"),
-                                           trip("fall", MeasurementKind::falling_threshold, "VIN", "U1")});
+    const Study s =
+        make_study(d.circuit, {trip("rise", MeasurementKind::rising_threshold, "VIN", "U1"),
+                               trip("fall", MeasurementKind::falling_threshold, "VIN", "U1")});
     const double rise = nominal_value(s, "rise");
     const double fall = nominal_value(s, "fall");
     INFO("rising " << rise << " V, falling " << fall << " V");
@@ -165,7 +168,8 @@ TEST_CASE("trip points agree with the saturating sweep within 1 uV on 120 random
     append_path(path, low, high, rise);
     const std::size_t top = path.size();
     append_path(path, high, low, fall);
-    const TransferCurve curve = dc_transfer(s.network(), s.nominal_parameters(), "VIN", {"out"}, path);
+    const TransferCurve curve =
+        dc_transfer(s.network(), s.nominal_parameters(), "VIN", {"out"}, path);
     std::size_t u1 = 0;
     while (curve.opamps[u1] != "U1") ++u1;
 

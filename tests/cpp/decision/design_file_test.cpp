@@ -53,7 +53,8 @@ TEST_CASE("design file: supplies, headroom and trip-point measurements", "[fast]
   CHECK(c.find_parameter("U1.headroom_low") != Circuit::npos);
 }
 
-TEST_CASE("design file: a part's output levels replace its grade's supplies", "[fast][design_file]") {
+TEST_CASE("design file: a part's output levels replace its grade's supplies",
+          "[fast][design_file]") {
   std::string text = schmitt;
   const std::string part = R"(grade = "rail", plus)";
   text.replace(text.find(part), part.size(),

@@ -49,8 +49,9 @@ TEST_CASE("example: over-temperature trip", "[examples]") {
     return (5.0 / ra + level / rh - ib) / (1.0 / ra + 1.0 / rb + 1.0 / rh);
   };
   const double low = 0.1, high = 4.9;
-  CHECK_THAT(nominal_value(s, "trip_point"), close_rel(plus_at(low) - low / a0 + rs * ib, 1e-12));
-  CHECK_THAT(nominal_value(s, "reset_point"), close_rel(plus_at(high) - high / a0 + rs * ib, 1e-12));
+  const auto source_at = [&](double level) { return plus_at(level) - level / a0 + rs * ib; };
+  CHECK_THAT(nominal_value(s, "trip_point"), close_rel(source_at(low), 1e-12));
+  CHECK_THAT(nominal_value(s, "reset_point"), close_rel(source_at(high), 1e-12));
   CHECK_THAT(nominal_value(s, "trip_level"), close_rel(high, 1e-15));
   // 85 °C lies within the trip window the comments give (2.4175 V .. 2.5514 V).
   CHECK(nominal_value(s, "trip_point") > 2.4175);

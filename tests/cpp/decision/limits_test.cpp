@@ -60,7 +60,8 @@ TEST_CASE("bad output limits are design errors", "[fast][limits]") {
   OpAmpSpec crossed = limited(5.0, 1.0);
   CHECK_THROWS_WITH(c.add_opamp("U2", "a", "b", "c", crossed), Contains("not above the low limit"));
   OpAmpSpec negative = rails(5.0, -0.1);
-  CHECK_THROWS_WITH(c.add_opamp("U3", "a", "b", "c", negative), Contains("headroom_high must be >= 0"));
+  CHECK_THROWS_WITH(c.add_opamp("U3", "a", "b", "c", negative),
+                    Contains("headroom_high must be >= 0"));
 }
 
 TEST_CASE("a linear gain from an op-amp with no negative feedback: ideal model, singular",
@@ -142,10 +143,11 @@ TEST_CASE("per sample, saturation withholds linear values and is counted", "[fas
   CHECK(r.measurements[0].stats.max() <= 10.0 + 1e-12);
   // The summary and the report show the counts.
   const std::string table = summary_table(s, r);
-  CHECK_THAT(table, Contains("Saturated builds (counted as failing): " + std::to_string(r.saturated)));
-  CHECK_THAT(table, Contains("(" + std::to_string(r.saturated) + " failed saturated)"));
+  const std::string count = std::to_string(r.saturated);
+  CHECK_THAT(table, Contains("Saturated builds (counted as failing): " + count));
+  CHECK_THAT(table, Contains("(" + count + " failed saturated)"));
   const std::string json = report_json(s, r);
-  CHECK_THAT(json, Contains("\"saturated\": " + std::to_string(r.saturated)));
+  CHECK_THAT(json, Contains("\"saturated\": " + count));
 
   // A small-signal measurement alone still checks the operating point.
   const Study ac = make_study(amplifier(1e3, 9e3, rails(12.0, 1.0), 1.0),

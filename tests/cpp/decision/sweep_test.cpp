@@ -44,7 +44,8 @@ TEST_CASE("sweep of a non-inverting Schmitt trigger with finite gain", "[fast][s
   // 10k / 50k, L = +-10 V, A0 = 1e4: thresholds near -(R1/R2) L = +-2 V (Sedra & Smith,
   // from memory), moved by the input A0 needs to hold a limit.
   const double a0 = 1e4;
-  const Circuit c = non_inverting_schmitt(10e3, 50e3, limited(-10.0, 10.0, OpAmpModel::finite_gain, a0));
+  const Circuit c =
+      non_inverting_schmitt(10e3, 50e3, limited(-10.0, 10.0, OpAmpModel::finite_gain, a0));
   const Network n(c);
   const auto curve = dc_sweep(n, nominal(c), "VIN", {"out"}, grid(-4.0, 4.0, 0.01));
   // The output leaves L where e = (s R2 + L R1)/(R1 + R2) = L/A0 (derived):
@@ -131,7 +132,8 @@ TEST_CASE("the sweep reports what it cannot do", "[fast][sweep]") {
                     Contains("singular") && Contains("no negative feedback"));
   const Circuit d = comparator(10e3, 10e3, 5.0, limited(0.0, 5.0));
   const Network m(d);
-  CHECK_THROWS_WITH(dc_sweep(m, nominal(d), "R1", {"out"}, {0.0}), Contains("not an independent source"));
+  CHECK_THROWS_WITH(dc_sweep(m, nominal(d), "R1", {"out"}, {0.0}),
+                    Contains("not an independent source"));
   CHECK_THROWS_WITH(dc_sweep(m, nominal(d), "VIN", {"nowhere"}, {0.0}), Contains("no node called"));
   CHECK_THROWS_WITH(dc_sweep(m, nominal(d), "VIN", {"out"}, {1.0, 0.0}), Contains("ascending"));
   // A study's sweep uses its nominal values.
