@@ -4,8 +4,10 @@
 #include <atomic>
 #include <chrono>
 #include <csignal>
+#include <cstdint>
 #include <cstdio>
 #include <iostream>
+#include <limits>
 #include <string>
 #include <utility>
 #include <vector>
@@ -64,6 +66,10 @@ lotwise::Study compile(const std::string& path) {
 struct StatisticsSettings {
   double confidence = 0.95;
   double target_half_width = 0.0;
+  std::uint32_t tolerance_digits = 0;
+  std::string sampler;
+  std::uint32_t replicates = 0;
+  std::uint64_t builds_per_lot = 0;
   bool worst_case = false;
   std::vector<std::string> nominal_axes;    ///< "PATTERN=v1,v2,..."
   std::vector<std::string> tolerance_axes;  ///< "PATTERN=t1,t2,..."
@@ -78,7 +84,15 @@ lotwise::RunOptions options_for(const lotwise::Study& study, const CLI::App& cmd
   options.seed = cmd.count("--seed") ? seed : defaults.seed;
   options.threads = cmd.count("--threads") ? threads : defaults.threads;
   options.sampler = defaults.sampler;
-  options.replicates = defaults.replicates;
+  for (auto k : {lotwise::Sampler::monte_carlo, lotwise::Sampler::sobol,
+                 lotwise::Sampler::latin_hypercube}) {
+    if (cmd.count("--sampler") && stats.sampler == lotwise::to_string(k)) options.sampler = k;
+  }
+  options.replicates = cmd.count("--replicates") ? stats.replicates : defaults.replicates;
+  options.tolerance_digits =
+      cmd.count("--tolerance-digits") ? stats.tolerance_digits : defaults.tolerance_digits;
+  options.builds_per_lot =
+      cmd.count("--builds-per-lot") ? stats.builds_per_lot : defaults.builds_per_lot;
   options.confidence = cmd.count("--confidence") ? stats.confidence : defaults.confidence;
   options.target_half_width =
       cmd.count("--target-half-width") ? stats.target_half_width : defaults.target_half_width;
@@ -240,6 +254,20 @@ int main(int argc, char** argv) {
     cmd->add_option("--target-half-width", stats.target_half_width,
                     "Stop once the yield interval's half-width reaches this; --samples is the cap")
         ->check(CLI::Range(0.0, 0.5));
+    cmd->add_option("--tolerance-digits", stats.tolerance_digits,
+                    "Stop once every measurement's mean, spread and coverage interval are stable to "
+                    "this many significant digits of its spread (JCGM 101 7.9); --samples is the cap")
+        ->check(CLI::Range(1, 3));
+    cmd->add_option("--sampler", stats.sampler,
+                    "How builds are drawn: monte_carlo, sobol or latin_hypercube (default: the file's [run] sampler)")
+        ->check(CLI::IsMember({"monte_carlo", "sobol", "latin_hypercube"}));
+    cmd->add_option("--replicates", stats.replicates,
+                    "Independent randomisations whose spread gives standard errors (default: the file's, or automatic)")
+        ->check(CLI::Range(1, 65536));
+    cmd->add_option("--builds-per-lot", stats.builds_per_lot,
+                    "Builds made from one lot (reel) of parts, sharing its lot deviations; adds "
+                    "within-lot Cp and Cpk beside the overall Pp and Ppk")
+        ->check(CLI::Range(std::uint64_t{1}, std::numeric_limits<std::uint64_t>::max()));
   };
   add_statistics(run);
   run->add_flag("--worst-case", stats.worst_case,

@@ -23,6 +23,8 @@ struct RunSettings {
   std::uint32_t replicates = 0;  ///< 0: automatic (see RunOptions::replicates)
   double confidence = 0.95;        ///< level of the reported intervals
   double target_half_width = 0.0;  ///< adaptive stop (see RunOptions::target_half_width)
+  std::uint32_t tolerance_digits = 0;  ///< adaptive stop (see RunOptions::tolerance_digits)
+  std::uint64_t builds_per_lot = 0;    ///< see RunOptions::builds_per_lot
 };
 
 struct Design {

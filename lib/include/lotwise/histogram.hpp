@@ -31,6 +31,10 @@ class Histogram {
       ++counts_[b];
     }
   }
+  /// A histogram with these counts, e.g. one carried from another process; throws Error
+  /// unless the range is valid and total == below + above + the bin counts.
+  static Histogram from_counts(double low, double high, std::vector<std::uint64_t> counts,
+                               std::uint64_t below, std::uint64_t above, std::uint64_t total);
   /// Adds another histogram of the same range and bins; throws Error otherwise.
   void merge(const Histogram& other);
 

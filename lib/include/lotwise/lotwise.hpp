@@ -1,6 +1,7 @@
 #pragma once
 // Everything a program embedding lotwise needs.
 #include "lotwise/capability.hpp"
+#include "lotwise/chunked_run.hpp"
 #include "lotwise/circuit.hpp"
 #include "lotwise/dc_sweep.hpp"
 #include "lotwise/design.hpp"

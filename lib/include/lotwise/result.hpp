@@ -32,6 +32,13 @@ struct MeasurementSummary {
   /// (JCGM 101:2008, 7.7), from the histogram; NaN ends if it runs past the range.
   Interval coverage{std::numeric_limits<double>::quiet_NaN(),
                     std::numeric_limits<double>::quiet_NaN()};
+  /// Adaptive run by numerical tolerance (RunOptions::tolerance_digits): the tolerance
+  /// delta of the standard deviation at the last batch (NaN otherwise or without spread).
+  double numerical_tolerance = std::numeric_limits<double>::quiet_NaN();
+  /// With RunOptions::builds_per_lot: the pooled within-lot standard deviation,
+  /// sqrt(sum over lots of sum (x - lot mean)^2 / (n - lots)) (NaN otherwise).
+  double within_lot_std_dev = std::numeric_limits<double>::quiet_NaN();
+  std::uint64_t within_lot_dof = 0;  ///< its degrees of freedom, n - lots
 };
 
 struct SpecSummary {
@@ -48,6 +55,9 @@ struct SpecSummary {
   Interval jeffreys_interval;
   /// Capability of the spec's measurement against its limits (overall spread: Pp, Ppk).
   Capability capability;
+  /// With RunOptions::builds_per_lot: the same indices from the pooled within-lot spread
+  /// (Cp, Cpk); the gap to `capability` is what lot-to-lot shifts cost.
+  Capability within_lot_capability;
   /// Fraction within the limits of a normal law with the measurement's mean and standard
   /// deviation, to compare with `fraction`.
   double normal_fit = std::numeric_limits<double>::quiet_NaN();
@@ -104,6 +114,25 @@ struct YieldResult {
   /// no failures). About 1 when the parameter does not matter; above 1 when failing builds
   /// sit at its extremes, on either side (a two-sided spec fails at both).
   std::vector<double> failure_spread;
+  /// Global sensitivity from a multiple linear fit of each measurement on the varied
+  /// parameters over the first RunOptions::regression_samples builds: standardized
+  /// regression coefficients b_j s_j / s_y (measurements x attribution_parameters,
+  /// row-major). Unlike `correlations` they stay right when parameters are correlated;
+  /// with a near-linear measurement their squares are the variance shares. NaN where
+  /// undefined.
+  std::vector<double> standardized_regression;
+  /// Per measurement, the share of its variance the linear fit explains (R^2): a value
+  /// well below 1 says the measurement is not linear in the parameters and the
+  /// coefficients above understate the story; look at rank_correlations then.
+  std::vector<double> regression_r_squared;
+  /// Spearman rank correlations of each varied parameter with each measurement over the
+  /// same builds (measurements x attribution_parameters, row-major).
+  std::vector<double> rank_correlations;
+  /// Builds (rows, with a temperature sweep one per build and temperature) the
+  /// regression and rank figures come from.
+  std::uint64_t regression_rows = 0;
+  /// Adaptive run by numerical tolerance: the batches taken (0 when not used).
+  std::uint64_t tolerance_batches = 0;
 
   /// Draws that could not be evaluated; they count as failing builds.
   std::uint64_t singular = 0;       ///< circuit matrix singular for the draw
@@ -121,9 +150,15 @@ struct YieldResult {
   /// temperature sweep there is one row per build and temperature, build-major.
   std::vector<double> values;
   std::vector<std::uint8_t> pass;
+  /// The parameters variations move, in the order of `parameter_values`.
+  std::vector<std::string> varied_parameters;
+  /// With RunOptions::keep_samples: each row's values of varied_parameters (rows as in
+  /// `values`), e.g. to plot two parameters with the failing builds marked.
+  std::vector<double> parameter_values;
 
   Sampler sampler = Sampler::monte_carlo;
   std::uint32_t replicates = 1;   ///< independent randomisations the samples were split into
+  std::uint64_t builds_per_lot = 0;  ///< RunOptions::builds_per_lot
   /// Standard error of `yield` from the spread of the replicates' yields, s_R / sqrt(R),
   /// and the Student-t interval it gives at `confidence` (NaN with fewer than two
   /// replicates). For sobol and latin_hypercube these, not the Clopper-Pearson interval

@@ -26,7 +26,8 @@ struct RunOptions {
   std::uint32_t chunk_size = 1024;
   /// Confidence level of the reported intervals.
   double confidence = 0.95;
-  /// Keep every sample's measurement values and pass flag in the result.
+  /// Keep every sample's measurement values, varied parameter values and pass flag in
+  /// the result.
   bool keep_samples = false;
   /// How the builds' random coordinates are chosen.
   Sampler sampler = Sampler::monte_carlo;
@@ -48,9 +49,27 @@ struct RunOptions {
   /// then the cap. Decided on the merged chunks only, so any thread count stops at the
   /// same chunk. Needs a single replicate.
   double target_half_width = 0.0;
+  /// Adaptive run by numerical tolerance (JCGM 101:2008, 7.9): when 1, 2 or 3, the
+  /// samples are taken in batches of max(10^4, 100 / (1 - confidence)) and the run stops
+  /// at the first batch where, for every measurement with a spread, twice the standard
+  /// deviation of the batch averages of its mean, standard deviation and coverage
+  /// interval ends lies within the numerical tolerance of its standard deviation stated
+  /// with this many significant digits. `samples` is the cap. With target_half_width too,
+  /// both must hold. Needs a single replicate and histograms.
+  std::uint32_t tolerance_digits = 0;
   /// Stream the correlations of every varied parameter with every measurement and the
   /// failing builds' parameter shifts (YieldResult::correlations, failure_shift).
   bool attribution = true;
+  /// With attribution: the first this many builds (fewer if the run is shorter) also
+  /// give the standardized regression coefficients and rank correlations
+  /// (YieldResult::standardized_regression, rank_correlations); 0 computes none.
+  std::uint64_t regression_samples = 10000;
+  /// Builds made from one lot (reel) of parts: builds i with the same i / builds_per_lot
+  /// share every lot deviation (Variation::lot_tolerance), drawn from a stream of their
+  /// own keyed by (seed, lot, coordinate). Capability is then also reported within lots
+  /// (Cp, Cpk from the pooled within-lot spread) beside the overall Pp, Ppk. 0: each
+  /// build draws its own lot.
+  std::uint64_t builds_per_lot = 0;
 };
 
 }  // namespace lotwise

@@ -22,6 +22,23 @@ class RunningStats {
   double min() const { return min_; }
   double max() const { return max_; }
 
+  /// The whole state, to carry a tally to another process (ChunkedRun) and back.
+  struct State {
+    std::uint64_t count = 0, non_finite = 0;
+    double mean = 0.0, m2 = 0.0, min = 0.0, max = 0.0;
+  };
+  State state() const { return State{count_, non_finite_, mean_, m2_, min_, max_}; }
+  static RunningStats from_state(const State& s) {
+    RunningStats r;
+    r.count_ = s.count;
+    r.non_finite_ = s.non_finite;
+    r.mean_ = s.mean;
+    r.m2_ = s.m2;
+    r.min_ = s.min;
+    r.max_ = s.max;
+    return r;
+  }
+
  private:
   std::uint64_t count_ = 0;
   std::uint64_t non_finite_ = 0;

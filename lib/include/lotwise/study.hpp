@@ -56,6 +56,10 @@ class Study {
   struct Impl;
 
  private:
+  friend class ChunkedRun;
+  friend std::string evaluate_chunks(const Study& study, const RunOptions& options,
+                                     std::uint64_t first, std::uint64_t count,
+                                     const std::string& ranges);
   std::unique_ptr<Impl> impl_;
 };
 

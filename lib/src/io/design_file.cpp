@@ -655,7 +655,18 @@ Design read(const toml::table& root, const Reader& r) {
   if (const auto* n = root.get("run")) {
     const toml::table& t = r.table(n, "[run]");
     r.only(t, {"samples", "seed", "threads", "sampler", "replicates", "confidence",
-               "target_half_width"}, "[run]");
+               "target_half_width", "tolerance_digits", "builds_per_lot"}, "[run]");
+    if (const auto* v = t.get("builds_per_lot")) {
+      // Builds made from one reel of parts: they share its lot deviations.
+      design.run.builds_per_lot = r.count(*v, "[run] builds_per_lot", false);
+    }
+    if (const auto* v = t.get("tolerance_digits")) {
+      // Significant digits of each measurement's standard deviation the run must settle
+      // (JCGM 101:2008, 7.9).
+      const std::uint64_t digits = r.count(*v, "[run] tolerance_digits", false);
+      if (digits > 3) r.fail(v, "[run] tolerance_digits must be 1, 2 or 3");
+      design.run.tolerance_digits = static_cast<std::uint32_t>(digits);
+    }
     if (const auto* v = t.get("confidence")) {
       // "95%" or 0.95
       const double c = r.quantity(*v, "[run] confidence").value;

@@ -224,6 +224,8 @@ std::string report_json(const Study& study, const YieldResult& r, const ReportSe
   }
   j["yield"] = yield;
   j["run"]["target_met"] = r.target_met;
+  if (r.tolerance_batches > 0) j["run"]["tolerance_batches"] = r.tolerance_batches;
+  if (r.builds_per_lot > 0) j["run"]["builds_per_lot"] = r.builds_per_lot;
   j["unevaluated"] = json{{"singular", r.singular},
                           {"invalid_values", r.invalid_values},
                           {"saturated", r.saturated}};
@@ -240,6 +242,7 @@ std::string report_json(const Study& study, const YieldResult& r, const ReportSe
       spec["intervals"] = interval_set(s.interval, s.wilson_interval, s.jeffreys_interval);
     }
     spec["capability"] = capability_json(s.capability);
+    if (r.builds_per_lot > 0) spec["capability_within_lots"] = capability_json(s.within_lot_capability);
     spec["normal_fit"] = number(s.normal_fit);
     if (std::isfinite(s.standard_error)) spec["standard_error"] = s.standard_error;
     specs.push_back(spec);
@@ -263,6 +266,12 @@ std::string report_json(const Study& study, const YieldResult& r, const ReportSe
     if (std::isfinite(r.measurements[i].mean_standard_error)) {
       measurements[i]["mean_standard_error"] = r.measurements[i].mean_standard_error;
     }
+    if (r.builds_per_lot > 0) {
+      measurements[i]["within_lot_std_dev"] = number(r.measurements[i].within_lot_std_dev);
+    }
+    if (std::isfinite(r.measurements[i].numerical_tolerance)) {
+      measurements[i]["numerical_tolerance"] = r.measurements[i].numerical_tolerance;
+    }
     const json d = distribution_json(r.measurements[i], r.confidence);
     if (!d.is_null()) measurements[i]["distribution"] = d;
   }
@@ -284,6 +293,26 @@ std::string report_json(const Study& study, const YieldResult& r, const ReportSe
                             {"correlations", correlations},
                             {"failure_shift", shift},
                             {"failure_spread", spread}};
+    if (r.regression_rows > 0) {
+      // Per measurement rows, like the correlations.
+      auto table = [&](const std::vector<double>& values) {
+        json t = json::object();
+        for (std::size_t m = 0; m < r.measurements.size() && (m + 1) * n <= values.size(); ++m) {
+          json row = json::array();
+          for (std::size_t a = 0; a < n; ++a) row.push_back(number(values[m * n + a]));
+          t[r.measurements[m].name] = row;
+        }
+        return t;
+      };
+      json r_squared = json::object();
+      for (std::size_t m = 0; m < r.measurements.size() && m < r.regression_r_squared.size(); ++m) {
+        r_squared[r.measurements[m].name] = number(r.regression_r_squared[m]);
+      }
+      j["attribution"]["regression_rows"] = r.regression_rows;
+      j["attribution"]["standardized_regression"] = table(r.standardized_regression);
+      j["attribution"]["regression_r_squared"] = r_squared;
+      j["attribution"]["rank_correlations"] = table(r.rank_correlations);
+    }
   }
   if (sections.worst_case) j["worst_case"] = worst_case_json(*sections.worst_case);
   if (sections.sweep) j["sweep"] = sweep_json(*sections.sweep);

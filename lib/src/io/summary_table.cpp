@@ -157,22 +157,37 @@ std::string summary_table(const Study& study, const YieldResult& r) {
     }
   }
   if (!r.specs.empty() && r.samples > 0) {
-    out << "\n" << pad("Spec", 18) << pad("Cpk", 10) << pad(std::to_string(level) + " % interval", 22)
-        << pad("Cp", 10) << pad("Normal fit", 13) << "Observed\n";
+    // With lots the overall indices are the performance indices Pp, Ppk, and the
+    // within-lot Cpk follows them.
+    const bool lots = r.builds_per_lot > 0;
+    out << "\n" << pad("Spec", 18) << pad(lots ? "Ppk" : "Cpk", 10)
+        << pad(std::to_string(level) + " % interval", 22) << pad(lots ? "Pp" : "Cp", 10)
+        << (lots ? pad("Cpk in lot", 12) : std::string()) << pad("Normal fit", 13) << "Observed\n";
     for (const auto& s : r.specs) {
       char cpk[24], range[48], cp[24];
       std::snprintf(cpk, sizeof cpk, "%.3g", s.capability.cpk);
       std::snprintf(range, sizeof range, "[%.3g, %.3g]", s.capability.cpk_interval.low,
                     s.capability.cpk_interval.high);
       std::snprintf(cp, sizeof cp, "%.3g", s.capability.cp);
-      out << pad(s.spec.measurement, 18) << pad(cpk, 10) << pad(range, 22) << pad(cp, 10)
-          << pad(percent(s.normal_fit), 13) << percent(s.fraction) << "\n";
+      out << pad(s.spec.measurement, 18) << pad(cpk, 10) << pad(range, 22) << pad(cp, 10);
+      if (lots) {
+        char within[24];
+        std::snprintf(within, sizeof within, "%.3g", s.within_lot_capability.cpk);
+        out << pad(within, 12);
+      }
+      out << pad(percent(s.normal_fit), 13) << percent(s.fraction) << "\n";
     }
     out << "Yield intervals: Wilson [" << percent(r.wilson_interval.low) << ", "
         << percent(r.wilson_interval.high) << "], Jeffreys [" << percent(r.jeffreys_interval.low)
         << ", " << percent(r.jeffreys_interval.high) << "]; failure fraction at most "
         << percent(r.failure_upper_bound) << " (one-sided, " << level << " %)\n";
-    if (r.target_met) out << "Stopped when the yield interval reached the target half-width\n";
+    if (r.target_met) {
+      out << (r.tolerance_batches > 0
+                  ? "Stopped when every measurement's mean, spread and coverage interval were "
+                    "stable to the numerical tolerance (JCGM 101 7.9), after " +
+                        std::to_string(r.tolerance_batches) + " batches\n"
+                  : std::string("Stopped when the yield interval reached the target half-width\n"));
+    }
   }
   // The parameters that move each measurement most, and those pushed aside in failing builds.
   const std::size_t n_attr = r.attribution_parameters.size();
@@ -195,10 +210,22 @@ std::string summary_table(const Study& study, const YieldResult& r) {
       }
       return text.empty() ? std::string("-") : text;
     };
-    out << "\n" << pad("Measurement", 18) << "Most influential parameters (sample correlation)\n";
+    // Standardized regression coefficients when there are enough rows: unlike plain
+    // correlations they stay right for correlated parameters.
+    const bool regression = r.standardized_regression.size() == n_attr * r.measurements.size() &&
+                            r.regression_r_squared.size() == r.measurements.size();
+    out << "\n" << pad("Measurement", 18)
+        << (regression ? "Most influential parameters (standardized regression coefficient; R^2 of the linear fit)\n"
+                       : "Most influential parameters (sample correlation)\n");
     for (std::size_t m = 0; m < r.measurements.size(); ++m) {
-      out << pad(r.measurements[m].name, 18)
-          << top([&](std::size_t a) { return r.correlations[m * n_attr + a]; }) << "\n";
+      out << pad(r.measurements[m].name, 18);
+      if (regression && std::isfinite(r.regression_r_squared[m])) {
+        char fit[32];
+        std::snprintf(fit, sizeof fit, "; R^2 %.3f", r.regression_r_squared[m]);
+        out << top([&](std::size_t a) { return r.standardized_regression[m * n_attr + a]; }) << fit << "\n";
+      } else {
+        out << top([&](std::size_t a) { return r.correlations[m * n_attr + a]; }) << "\n";
+      }
     }
     if (r.passed < r.samples && r.failure_shift.size() == n_attr) {
       out << "Failing builds lean on (mean shift in standard deviations): "

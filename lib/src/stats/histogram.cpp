@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <utility>
 
 #include "lotwise/error.hpp"
 
@@ -14,6 +15,19 @@ Histogram::Histogram(double low, double high, std::size_t bins)
     throw Error("a histogram needs a finite range low < high and at least one bin");
   }
   scale_ = static_cast<double>(bins) / (high - low);
+}
+
+Histogram Histogram::from_counts(double low, double high, std::vector<std::uint64_t> counts,
+                                 std::uint64_t below, std::uint64_t above, std::uint64_t total) {
+  Histogram h(low, high, counts.size());
+  std::uint64_t sum = below + above;
+  for (std::uint64_t c : counts) sum += c;
+  if (sum != total) throw Error("histogram counts do not add up to their total");
+  h.counts_ = std::move(counts);
+  h.below_ = below;
+  h.above_ = above;
+  h.total_ = total;
+  return h;
 }
 
 void Histogram::merge(const Histogram& other) {

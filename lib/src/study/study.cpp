@@ -171,6 +171,8 @@ YieldResult Study::run() const {
   options.replicates = impl_->design.run.replicates;
   options.confidence = impl_->design.run.confidence;
   options.target_half_width = impl_->design.run.target_half_width;
+  options.tolerance_digits = impl_->design.run.tolerance_digits;
+  options.builds_per_lot = impl_->design.run.builds_per_lot;
   return run(options);
 }
 

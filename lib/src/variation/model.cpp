@@ -46,7 +46,7 @@ bool positive_definite(const Eigen::MatrixXd& c, Eigen::MatrixXd* factor = nullp
 }  // namespace
 
 std::size_t VariationModel::add_coordinate(bool normal, std::string name) {
-  coordinates_.push_back(Coordinate{normal, std::move(name)});
+  coordinates_.push_back(Coordinate{normal, std::move(name), false});
   return coordinates_.size() - 1;
 }
 
@@ -94,6 +94,7 @@ VariationModel::VariationModel(const Circuit& circuit, const std::vector<Variati
     if (v.lot_tolerance > 0.0) {
       const Spread lot = make_spread(v.lot_distribution, v.lot_tolerance, v.sigmas);
       const std::size_t c = add_coordinate(lot.wants_normal(), "lot of " + group);
+      coordinates_[c].lot = true;
       for (std::size_t e = first; e < last; ++e) add_term(c, e, false, lot, value_scale(e));
     }
     Spread own = make_spread(v.distribution, v.tolerance, v.sigmas, v.inner_tolerance);

@@ -19,6 +19,7 @@ namespace lotwise::detail {
 struct Coordinate {
   bool normal = false;
   std::string name;  ///< "R1", "R1.tempco", "lot of [[vary]] 1", "temperature", ...
+  bool lot = false;  ///< a lot's deviation: shared by the builds of one lot (builds_per_lot)
 };
 
 /// One deviation: coordinate -> law -> times `scale` -> added to a parameter's value

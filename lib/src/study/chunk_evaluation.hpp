@@ -1,0 +1,45 @@
+#pragma once
+// Private: evaluates the builds of one chunk into its tally. One per worker thread (or
+// process); the tally depends only on the study, the options and the chunk number.
+#include <cstdint>
+#include <vector>
+
+#include "lotwise/histogram.hpp"
+#include "study/plan.hpp"
+#include "study/run_shape.hpp"
+#include "study/tally.hpp"
+#include "variation/points.hpp"
+
+namespace lotwise::detail {
+
+class ChunkEvaluator {
+ public:
+  /// `directions` is needed for the sobol sampler only.
+  ChunkEvaluator(const Study::Impl& study, const RunOptions& options, const RunShape& shape,
+                 const SobolDirections* directions);
+
+  /// Evaluates chunk `k`. `ranges` holds the empty histograms every chunk but the first
+  /// starts from; with histograms kept and `ranges` empty the chunk records its raw
+  /// values instead (the pilot that sets the ranges).
+  ChunkTally evaluate(std::uint64_t k, const std::vector<Histogram>& ranges);
+
+ private:
+  const Study::Impl& study_;
+  const RunOptions& options_;
+  const RunShape& shape_;
+  Evaluator evaluator_;
+  PointStream points_;
+  BuildScratch build_;
+  std::vector<double> theta_;
+  std::vector<double> values_;
+  std::vector<std::uint8_t> spec_ok_;
+  std::vector<std::uint8_t> spec_saturated_;
+  // Builds per lot: the lot coordinates, the current lot's values of them, and the point
+  // with those values put in.
+  std::vector<std::size_t> lot_coordinates_;
+  std::vector<double> lot_values_;
+  std::uint64_t current_lot_ = ~std::uint64_t{0};
+  std::vector<double> point_;
+};
+
+}  // namespace lotwise::detail
