@@ -74,14 +74,17 @@ def test_exception_in_progress_stops_the_run(difference_amplifier):
 
 
 def test_keyboard_interrupt_stops_a_long_run(difference_amplifier):
-    # A run of 10^12 builds takes days; Ctrl-C (simulated) must end it promptly.
+    # A run of 10^12 builds takes days; Ctrl-C (simulated) must end it promptly and
+    # return the partial result, marked incomplete, with a warning.
     timer = threading.Timer(0.3, _thread.interrupt_main)
     timer.start()
     try:
-        with pytest.raises(KeyboardInterrupt):
-            difference_amplifier.run(samples=10**12)
+        with pytest.warns(lotwise.IncompleteRunWarning):
+            result = difference_amplifier.run(samples=10**12)
     finally:
         timer.cancel()
+    assert not result.complete and result.interrupted
+    assert 0 < result.samples < result.requested
 
 
 def test_concurrent_runs_share_one_study(difference_amplifier):
@@ -124,7 +127,9 @@ def test_evaluate_accepts_vectors_and_mappings(difference_amplifier):
 def test_node_voltage_and_operating_point_agree(difference_amplifier):
     # vout at the operating point: VP = 50 mV, VN = -50 mV, gain about 10 -> about 1 V.
     op = difference_amplifier.operating_point()
-    assert op["out"] == difference_amplifier.nominal_values["vout"]
+    # Two solver paths (the study's prepared factorisation, the plain operating point)
+    # agree to rounding.
+    assert op["out"] == pytest.approx(difference_amplifier.nominal_values["vout"], rel=1e-13)
     assert op["out"] == pytest.approx(1.0, rel=1e-3)
     assert op["in_p"] == 0.05 and op["in_n"] == -0.05
 

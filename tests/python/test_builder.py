@@ -158,15 +158,18 @@ def test_study_keeps_its_own_copy_of_the_design():
 def test_vary_states_tolerances_relative_or_absolute():
     d = build_difference_amplifier()
     v = d._core.variations
-    assert v[0] == {"parameters": ["R*"], "tolerance": 0.01, "relative": True,
-                    "distribution": "normal", "sigmas": 3.0}
+    assert {k: v[0][k] for k in ("parameters", "tolerance", "relative", "distribution",
+                                 "sigmas")} == {"parameters": ["R*"], "tolerance": 0.01,
+                                                "relative": True, "distribution": "normal",
+                                                "sigmas": 3.0}
+    assert v[0]["lot_tolerance"] == 0.0 and v[0]["ratio_tolerance"] == 0.0
     assert v[1]["tolerance"] == pytest.approx(1e-3) and v[1]["relative"] is False
     assert v[2]["relative"] is True and v[2]["distribution"] == "uniform"
     d.vary("U1.bias_plus", 2e-9, relative=False, sigmas=2)
     assert d._core.variations[3]["relative"] is False and d._core.variations[3]["sigmas"] == 2.0
     with pytest.raises(TypeError, match="relative= applies to a numeric tolerance"):
         d.vary("U1.bias_minus", "1n", relative=False)
-    with pytest.raises(lotwise.DesignError, match="sigmas applies to the normal distribution only"):
+    with pytest.raises(lotwise.DesignError, match="sigmas applies to the normal-shaped distributions only"):
         d.vary("U1.bias_minus", "1n", distribution="uniform", sigmas=3)
 
 

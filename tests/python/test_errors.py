@@ -26,7 +26,7 @@ FLOATING_PART = 'C9 = { type = "capacitor", value = "1n", nodes = ["out", "probe
 FILE_CASES = [
     pytest.param(
         edited("samples = 4000", "sample = 4000"), lotwise.DesignError,
-        "<design>:50:10: unknown key 'sample' in [run] (allowed: samples, seed, threads, sampler, replicates, confidence, target_half_width)",
+        "<design>:50:10: unknown key 'sample' in [run] (allowed: samples, seed, threads, sampler, replicates, confidence, target_half_width, tolerance_digits, builds_per_lot)",
         id="unknown-key"),
     pytest.param(
         edited('value = "100k", nodes = ["n", "out"]', 'value = "100q", nodes = ["n", "out"]'),
@@ -117,10 +117,13 @@ BUILDER_CASES = [
                  "op-amp 'U9': its output is tied to ground ('gnd')", id="opamp-output-to-ground"),
     pytest.param(lambda d: d.measure("m", "gainz", inputs="VP", output="out"),
                  "unknown measurement kind 'gainz' (gain, differential_gain, common_mode_gain, "
-                 "cmrr, output_offset, input_offset, node_voltage, bandwidth)",
+                 "cmrr, output_offset, input_offset, node_voltage, bandwidth, phase, gain_error, "
+                 "rising_threshold, falling_threshold, hysteresis, threshold_centre, output_high, "
+                 "output_low)",
                  id="unknown-measurement-kind"),
     pytest.param(lambda d: d.vary("R*", "1%", distribution="gaussian"),
-                 "unknown distribution 'gaussian' (normal, uniform)", id="unknown-distribution"),
+                 "unknown distribution 'gaussian' (normal, uniform, truncated_normal, triangular, "
+                 "log_normal, binned, fixed)", id="unknown-distribution"),
     pytest.param(lambda d: d.vary("R*", "1 percent"),
                  "variation of 'R*': tolerance: malformed number '1 percent': unknown suffix "
                  + MALFORMED, id="malformed-tolerance"),

@@ -25,28 +25,69 @@ except ImportError as _error:  # pragma: no cover - depends on how lotwise was i
     ) from _error
 
 from ._core import CircuitError, DesignError, Error, RunError
+from ._analysis import (MeasurementWorstCase, ParameterTolerance, SweepAxis, SweepResult,
+                        TransferCurve, WorstCaseResult)
 from ._design import Design, load, parse
-from ._numbers import clopper_pearson, format_si, parse_quantity, parse_value, wilson
-from ._study import MeasurementStats, Result, SpecResult, Study
+from ._numbers import (binomial_interval, clopper_pearson, clopper_pearson_upper, format_si,
+                       is_preferred, jeffreys, letter_of_tolerance, nearest_preferred,
+                       parse_quantity, parse_value, preferred_values, series_decade,
+                       tolerance_of_letter, wilson)
+from ._run import IncompleteRunWarning, SaturationWarning, StopToken
+from ._stats import Capability, Histogram, capability, normal_fit_yield
+from .report import ReportError, read_report
+from ._study import (Evaluation, MeasurementStats, Result, SpecResult, Study,
+                     TemperatureResult)
 
 __version__: str = _core.__version__
 
+# Submodules: plots (matplotlib) and distributed (Dask) import their libraries lazily.
+from . import distributed, plots, report  # noqa: E402
+
 __all__ = [
+    "ReportError",
+    "distributed",
+    "plots",
+    "read_report",
+    "report",
+    "Capability",
     "CircuitError",
     "Design",
     "DesignError",
     "Error",
+    "Evaluation",
+    "Histogram",
+    "IncompleteRunWarning",
     "MeasurementStats",
+    "MeasurementWorstCase",
+    "ParameterTolerance",
     "Result",
     "RunError",
+    "SaturationWarning",
     "SpecResult",
+    "StopToken",
     "Study",
+    "SweepAxis",
+    "SweepResult",
+    "TemperatureResult",
+    "TransferCurve",
+    "WorstCaseResult",
     "__version__",
+    "binomial_interval",
+    "capability",
     "clopper_pearson",
+    "clopper_pearson_upper",
     "format_si",
+    "is_preferred",
+    "jeffreys",
+    "letter_of_tolerance",
     "load",
+    "nearest_preferred",
+    "normal_fit_yield",
     "parse",
     "parse_quantity",
     "parse_value",
+    "preferred_values",
+    "series_decade",
+    "tolerance_of_letter",
     "wilson",
 ]

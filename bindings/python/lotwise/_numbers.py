@@ -1,12 +1,19 @@
-"""Engineering notation and binomial intervals, as the C++ core computes them."""
+"""Engineering notation, binomial intervals and preferred values, as the C++ core
+computes them."""
 
 from __future__ import annotations
 
 from typing import Tuple
 
+import numpy as np
+
 from . import _core
 
-__all__ = ["clopper_pearson", "format_si", "parse_quantity", "parse_value", "wilson"]
+__all__ = [
+    "binomial_interval", "clopper_pearson", "clopper_pearson_upper", "format_si", "is_preferred",
+    "jeffreys", "letter_of_tolerance", "nearest_preferred", "parse_quantity", "parse_value",
+    "preferred_values", "series_decade", "tolerance_of_letter", "wilson",
+]
 
 
 def parse_value(text: str) -> float:
@@ -89,6 +96,68 @@ def wilson(k: int, n: int, confidence: float = 0.95) -> Tuple[float, float]:
     Parameters and errors as for :func:`clopper_pearson`.
     """
     return _core.wilson(_count(k, "k"), _count(n, "n"), confidence)
+
+
+def jeffreys(k: int, n: int, confidence: float = 0.95) -> Tuple[float, float]:
+    """Jeffreys interval: the equal-tailed interval of the Beta(k + 1/2, n - k + 1/2)
+    posterior, with the lower bound 0 at k = 0 and the upper bound 1 at k = n (Brown,
+    Cai & DasGupta, Statist. Sci. 16(2), 2001).
+
+    Parameters and errors as for :func:`clopper_pearson`.
+    """
+    return _core.jeffreys(_count(k, "k"), _count(n, "n"), confidence)
+
+
+def clopper_pearson_upper(k: int, n: int, confidence: float = 0.95) -> float:
+    """One-sided exact upper confidence bound for a proportion k / n.
+
+    With ``k = 0`` it is 1 - (1 - confidence)^(1/n), about 3/n at 95 % (the rule of
+    three): the bound on a failure fraction after n passing builds.
+    """
+    return _core.clopper_pearson_upper(_count(k, "k"), _count(n, "n"), confidence)
+
+
+def binomial_interval(method: str, k: int, n: int, confidence: float = 0.95) -> Tuple[float, float]:
+    """The interval of ``method``: "clopper_pearson", "wilson" or "jeffreys"."""
+    return _core.binomial_interval(method, _count(k, "k"), _count(n, "n"), confidence)
+
+
+def series_decade(series: str) -> np.ndarray:
+    """One decade of an IEC 60063 series ("E3" ... "E192") as mantissas in [1, 10)."""
+    return _core.series_decade(series)
+
+
+def preferred_values(series: str, low: float, high: float) -> np.ndarray:
+    """Every value of the series in [low, high] (both > 0), ascending.
+
+    >>> preferred_values("E12", 1e3, 2e3).tolist()
+    [1000.0, 1200.0, 1500.0, 1800.0]
+    """
+    return _core.preferred_values(series, float(low), float(high))
+
+
+def nearest_preferred(value: float, series: str) -> float:
+    """The series value nearest to ``value`` (> 0) in ratio (on a log scale).
+
+    >>> nearest_preferred(4830.0, "E96")
+    4870.0
+    """
+    return _core.nearest_preferred(float(value), series)
+
+
+def is_preferred(value: float, series: str, tolerance: float = 1e-9) -> bool:
+    """True if ``value`` is a value of the series within a relative ``tolerance``."""
+    return _core.is_preferred(float(value), series, float(tolerance))
+
+
+def tolerance_of_letter(code: str) -> float:
+    """The relative tolerance of an IEC 60062 letter code ("F" -> 0.01)."""
+    return _core.tolerance_of_letter(code)
+
+
+def letter_of_tolerance(fraction: float) -> str:
+    """The IEC 60062 letter of a relative tolerance (0.01 -> "F"), or "" if none."""
+    return _core.letter_of_tolerance(float(fraction))
 
 
 def _count(value: int, name: str) -> int:

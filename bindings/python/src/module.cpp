@@ -8,5 +8,8 @@ PYBIND11_MODULE(_core, m) {
   // Errors first: the other areas' docstrings and defaults may raise them.
   lotwise::python::bind_errors(m);
   lotwise::python::bind_circuit(m);
+  lotwise::python::bind_stats(m);
   lotwise::python::bind_study(m);
+  lotwise::python::bind_analysis(m);
+  lotwise::python::bind_chunked(m);
 }
