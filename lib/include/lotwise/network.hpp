@@ -96,6 +96,29 @@ class Network {
   const double* solve_dc(const double* parameters, const Excitation& excitation,
                          NetworkWorkspace& ws, std::size_t slot = 0) const;
 
+  /// Chooses, once, a pivot order and fill pattern for the DC matrix with
+  /// `held_outputs` held (as for factor_dc), from its values at `parameters` (usually
+  /// nominal), and keeps them in `ws`. Later factor_dc calls on `ws` with the same held
+  /// outputs then only refill the values and replay a fixed elimination; a pivot that is
+  /// poor for a given parameter vector sends that call to the dense factorisation.
+  /// Results agree with the dense path to rounding. Returns false, keeping the dense path,
+  /// if the matrix at `parameters` has no acceptable pivot order (singular) or the values
+  /// are out of range. Allocates; call it before the per-sample loop.
+  bool prepare_dc(const double* parameters, NetworkWorkspace& ws,
+                  const std::vector<std::size_t>& held_outputs = {}) const;
+  /// As prepare_dc for the small-signal matrix, choosing the pivots at `frequency`; the
+  /// pattern then serves factor_ac at every frequency.
+  bool prepare_ac(const double* parameters, double frequency, NetworkWorkspace& ws) const;
+
+  /// Solves the factored DC system for `count` excitations at once, into slots
+  /// 0..count-1 of `ws` (count at most the workspace's slots; throws Error beyond): one
+  /// pass over the factors for all of them. Same results as solve_dc per excitation.
+  void solve_dc(const double* parameters, const Excitation* excitations, std::size_t count,
+                NetworkWorkspace& ws) const;
+  /// As the batched solve_dc, for the small-signal system.
+  void solve_ac(const double* parameters, const Excitation* excitations, std::size_t count,
+                NetworkWorkspace& ws) const;
+
   /// Factors the small-signal matrix at `frequency` Hz.
   SolveStatus factor_ac(const double* parameters, double frequency, NetworkWorkspace& ws) const;
   const std::complex<double>* solve_ac(const double* parameters, const Excitation& excitation,

@@ -4,6 +4,7 @@
 // one pass over the stamp list, with no look-ups and no allocation.
 #include <complex>
 #include <cstddef>
+#include <cstdint>
 #include <string>
 #include <vector>
 
@@ -11,6 +12,7 @@
 
 #include "lotwise/circuit.hpp"
 #include "lotwise/network.hpp"
+#include "mna/sparse_lu.hpp"
 
 namespace lotwise::detail {
 
@@ -62,6 +64,38 @@ struct OpAmpOutput {
 
 }  // namespace lotwise::detail
 
+namespace lotwise::detail {
+
+/// How to refill a PatternLU's values from a parameter vector: a copy of the constant
+/// entries, then one pass per kind of term, each a flat list (no switch per entry).
+/// Reciprocals (1/R, 1/A0) are taken once per parameter.
+struct FillTerm {
+  std::uint32_t slot;
+  std::uint32_t index;  ///< parameter index, or index into `inverse` for reciprocal terms
+  double factor;        ///< the stamp's sign, times 2 pi for susceptances
+};
+
+template <typename T>
+struct PatternFill {
+  std::vector<T> constants;          ///< per slot
+  std::vector<std::size_t> inverse;  ///< parameters whose reciprocal the terms read
+  std::vector<double> reciprocal;    ///< scratch, one per `inverse`
+  std::vector<FillTerm> real_reciprocal;  ///< += factor / p
+  std::vector<FillTerm> real_value;       ///< += factor * p
+  std::vector<FillTerm> imag_value;       ///< += j f factor * p (AC only)
+  std::vector<FillTerm> imag_reciprocal;  ///< += j f factor / p (AC only)
+};
+
+/// A reusable factorisation of one kind of matrix: DC with a set of held outputs, or AC.
+template <typename T>
+struct Pattern {
+  std::vector<std::size_t> held;  ///< DC: the held op-amp elements, as prepared
+  PatternLU<T> lu;
+  PatternFill<T> fill;
+};
+
+}  // namespace lotwise::detail
+
 namespace lotwise {
 
 struct Network::Layout {
@@ -83,14 +117,26 @@ struct NetworkWorkspace::Data {
   Eigen::MatrixXd a;
   Eigen::PartialPivLU<Eigen::MatrixXd> lu;
   Eigen::VectorXd rhs;
+  Eigen::MatrixXd rhs_block;  ///< one right-hand side per slot (solve_dc for several)
   /// Set by factor_dc: 1 for the branch rows of held op-amp outputs.
   std::vector<unsigned char> held_row;
   Eigen::MatrixXd x;  ///< one column per slot
   Eigen::MatrixXcd ac;
   Eigen::PartialPivLU<Eigen::MatrixXcd> ac_lu;
   Eigen::VectorXcd ac_rhs;
+  Eigen::MatrixXcd ac_rhs_block;
   Eigen::MatrixXcd ac_x;
   double frequency = 0.0;
+  // Reusable factorisations (Network::prepare_dc / prepare_ac); `*_active` is the one
+  // the last factor call used, npos when it used the dense factorisation.
+  std::vector<detail::Pattern<double>> dc_patterns;
+  std::vector<detail::Pattern<std::complex<double>>> ac_patterns;
+  std::size_t dc_active = static_cast<std::size_t>(-1);
+  std::size_t ac_active = static_cast<std::size_t>(-1);
+  /// Factorisations that replayed a pattern, and those that fell back to the dense one
+  /// although a pattern was prepared (a poor pivot for this parameter vector).
+  std::uint64_t pattern_factors = 0;
+  std::uint64_t dense_fallbacks = 0;
 };
 
 namespace detail {

@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 #include <sstream>
+#include <type_traits>
 
 #include "lotwise/error.hpp"
 #include "mna/layout.hpp"
@@ -256,11 +257,13 @@ NetworkWorkspace Network::make_workspace(std::size_t slots) const {
   d->a = Eigen::MatrixXd::Zero(n, n);
   d->lu = Eigen::PartialPivLU<Eigen::MatrixXd>(n);
   d->rhs = Eigen::VectorXd::Zero(n);
+  d->rhs_block = Eigen::MatrixXd::Zero(n, s);
   d->held_row.assign(layout_->size, 0);
   d->x = Eigen::MatrixXd::Zero(n, s);
   d->ac = Eigen::MatrixXcd::Zero(n, n);
   d->ac_lu = Eigen::PartialPivLU<Eigen::MatrixXcd>(n);
   d->ac_rhs = Eigen::VectorXcd::Zero(n);
+  d->ac_rhs_block = Eigen::MatrixXcd::Zero(n, s);
   d->ac_x = Eigen::MatrixXcd::Zero(n, s);
   return NetworkWorkspace(std::move(d));
 }
@@ -317,31 +320,215 @@ SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws) c
   return factor_dc(parameters, ws, none);
 }
 
-SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws,
-                               const std::vector<std::size_t>& held_outputs) const {
-  auto& d = ws.data();
+namespace {
+
+// Marks the branch rows of the held outputs in d.held_row; throws for a non-op-amp.
+void mark_held(const Network::Layout& L, NetworkWorkspace::Data& d,
+               const std::vector<std::size_t>& held_outputs) {
   std::fill(d.held_row.begin(), d.held_row.end(), static_cast<unsigned char>(0));
   for (const std::size_t e : held_outputs) {
-    const std::size_t i =
-        e < layout_->opamp_of_element.size() ? layout_->opamp_of_element[e] : npos;
-    if (i == npos) {
+    const std::size_t i = e < L.opamp_of_element.size() ? L.opamp_of_element[e] : Network::npos;
+    if (i == Network::npos) {
       throw Error("factor_dc: held element " + std::to_string(e) + " is not an op-amp");
     }
-    d.held_row[layout_->opamps[i].branch] = 1;
+    d.held_row[L.opamps[i].branch] = 1;
   }
-  const SolveStatus values = check_values(parameters);
-  if (values != SolveStatus::ok) return values;
+}
+
+// The dense DC matrix into d.a (held rows as marked in d.held_row).
+void fill_dense_dc(const Network::Layout& L, const double* parameters, NetworkWorkspace::Data& d,
+                   const std::vector<std::size_t>& held_outputs) {
   d.a.setZero();
-  for (const auto& s : layout_->matrix) {
+  for (const auto& s : L.matrix) {
     if (d.held_row[s.row]) continue;  // the held op-amp's branch equation, replaced below
     d.a(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
         real_stamp(s, parameters);
   }
   for (const std::size_t e : held_outputs) {
-    const auto& o = layout_->opamps[layout_->opamp_of_element[e]];
+    const auto& o = L.opamps[L.opamp_of_element[e]];
     d.a(static_cast<Eigen::Index>(o.branch), static_cast<Eigen::Index>(o.out)) = 1.0;
   }
+}
+
+void fill_dense_ac(const Network::Layout& L, const double* parameters, double frequency,
+                   NetworkWorkspace::Data& d) {
+  d.ac.setZero();
+  for (const auto& s : L.matrix) {
+    d.ac(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
+        complex_stamp(s, parameters, frequency);
+  }
+}
+
+// Whether a stamp can be non-zero in a DC (or AC) matrix.
+bool stamp_present(const MatrixStamp& s, bool ac) {
+  if (s.kind == StampKind::inverse_gain && s.model == OpAmpModel::ideal) return false;
+  if (!ac && (s.kind == StampKind::susceptance || s.kind == StampKind::reactance)) return false;
+  return true;
+}
+
+template <typename T>
+std::uint32_t reciprocal_index(detail::PatternFill<T>& f, std::size_t p) {
+  const auto it = std::find(f.inverse.begin(), f.inverse.end(), p);
+  if (it != f.inverse.end()) return static_cast<std::uint32_t>(it - f.inverse.begin());
+  f.inverse.push_back(p);
+  return static_cast<std::uint32_t>(f.inverse.size() - 1);
+}
+
+// Compiles the stamps into a fill plan for `pattern` (whose LU has been analysed).
+template <typename T>
+void compile_fill(const Network::Layout& L, const unsigned char* held_row,
+                  const std::vector<std::size_t>& held_outputs, bool ac,
+                  detail::Pattern<T>& pattern) {
+  constexpr double two_pi = 6.283185307179586476925;
+  auto& f = pattern.fill;
+  f = detail::PatternFill<T>();
+  f.constants.assign(pattern.lu.nonzeros(), T(0));
+  for (const auto& s : L.matrix) {
+    if ((held_row && held_row[s.row]) || !stamp_present(s, ac)) continue;
+    const std::uint32_t slot = pattern.lu.slot(s.row, s.col);
+    switch (s.kind) {
+      case StampKind::constant: f.constants[slot] += s.sign; break;
+      case StampKind::conductance:
+        f.real_reciprocal.push_back({slot, reciprocal_index(f, s.p), s.sign});
+        break;
+      case StampKind::value:
+        f.real_value.push_back({slot, static_cast<std::uint32_t>(s.p), s.sign});
+        break;
+      case StampKind::susceptance:
+      case StampKind::reactance:
+        f.imag_value.push_back({slot, static_cast<std::uint32_t>(s.p), two_pi * s.sign});
+        break;
+      case StampKind::inverse_gain:
+        f.real_reciprocal.push_back({slot, reciprocal_index(f, s.p), s.sign});
+        if (ac && s.model == OpAmpModel::single_pole) {
+          f.imag_reciprocal.push_back({slot, reciprocal_index(f, s.q), s.sign});
+        }
+        break;
+    }
+  }
+  for (const std::size_t e : held_outputs) {
+    const auto& o = L.opamps[L.opamp_of_element[e]];
+    f.constants[pattern.lu.slot(o.branch, o.out)] = 1.0;
+  }
+  f.reciprocal.assign(f.inverse.size(), 0.0);
+}
+
+// Refills the pattern's values for `theta` (and frequency, AC) and factors them.
+// Returns false when the pivot order does not suit this matrix (the dense path decides).
+template <typename T>
+bool factor_pattern(detail::Pattern<T>& pattern, const double* theta, double frequency) {
+  auto& f = pattern.fill;
+  T* v = pattern.lu.values();
+  std::copy(f.constants.begin(), f.constants.end(), v);
+  for (std::size_t k = 0; k < f.inverse.size(); ++k) f.reciprocal[k] = 1.0 / theta[f.inverse[k]];
+  const double* r = f.reciprocal.data();
+  for (const auto& t : f.real_reciprocal) v[t.slot] += t.factor * r[t.index];
+  for (const auto& t : f.real_value) v[t.slot] += t.factor * theta[t.index];
+  if constexpr (!std::is_same<T, double>::value) {
+    for (const auto& t : f.imag_value) v[t.slot] += T(0.0, frequency * t.factor * theta[t.index]);
+    for (const auto& t : f.imag_reciprocal) v[t.slot] += T(0.0, frequency * t.factor * r[t.index]);
+  } else {
+    (void)frequency;
+  }
+  // The dense path's singularity scale: n eps max |a_ij|.
+  double scale2 = 0.0;
+  const std::size_t nnz = pattern.lu.nonzeros();
+  for (std::size_t i = 0; i < nnz; ++i) scale2 = std::max(scale2, detail::magnitude2(v[i]));
+  const double tiny = static_cast<double>(pattern.lu.size()) *
+                      std::numeric_limits<double>::epsilon() * std::sqrt(scale2);
+  return pattern.lu.factor(tiny) == detail::PatternStatus::ok;
+}
+
+template <typename T>
+std::size_t find_pattern(const std::vector<detail::Pattern<T>>& patterns,
+                         const std::vector<std::size_t>& held) {
+  for (std::size_t i = 0; i < patterns.size(); ++i) {
+    if (patterns[i].held == held) return i;
+  }
+  return Network::npos;
+}
+
+// A dense matrix's values, row-major.
+template <typename Matrix>
+std::vector<typename Matrix::Scalar> row_major(const Matrix& a) {
+  const auto n = static_cast<std::size_t>(a.rows());
+  std::vector<typename Matrix::Scalar> out(n * n);
+  for (std::size_t i = 0; i < n; ++i) {
+    for (std::size_t j = 0; j < n; ++j) {
+      out[i * n + j] = a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j));
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
+bool Network::prepare_dc(const double* parameters, NetworkWorkspace& ws,
+                         const std::vector<std::size_t>& held_outputs) const {
+  const Layout& L = *layout_;
+  auto& d = ws.data();
+  mark_held(L, d, held_outputs);
+  const std::size_t existing = find_pattern(d.dc_patterns, held_outputs);
+  if (existing != npos) {
+    d.dc_patterns.erase(d.dc_patterns.begin() + static_cast<std::ptrdiff_t>(existing));
+  }
+  d.dc_active = npos;
+  if (L.size == 0 || check_values(parameters) != SolveStatus::ok) return false;
+  fill_dense_dc(L, parameters, d, held_outputs);
+  std::vector<std::pair<std::size_t, std::size_t>> positions;
+  for (const auto& s : L.matrix) {
+    if (!d.held_row[s.row] && stamp_present(s, false)) positions.emplace_back(s.row, s.col);
+  }
+  for (const std::size_t e : held_outputs) {
+    const auto& o = L.opamps[L.opamp_of_element[e]];
+    positions.emplace_back(o.branch, o.out);
+  }
+  detail::Pattern<double> pattern;
+  pattern.held = held_outputs;
+  if (!pattern.lu.analyse(L.size, positions, row_major(d.a))) return false;
+  pattern.lu.reserve_columns(static_cast<std::size_t>(d.x.cols()));
+  compile_fill(L, d.held_row.data(), held_outputs, false, pattern);
+  d.dc_patterns.push_back(std::move(pattern));
+  return true;
+}
+
+bool Network::prepare_ac(const double* parameters, double frequency, NetworkWorkspace& ws) const {
+  const Layout& L = *layout_;
+  auto& d = ws.data();
+  d.ac_patterns.clear();
+  d.ac_active = npos;
+  if (L.size == 0 || check_values(parameters) != SolveStatus::ok) return false;
+  fill_dense_ac(L, parameters, frequency, d);
+  std::vector<std::pair<std::size_t, std::size_t>> positions;
+  for (const auto& s : L.matrix) {
+    if (stamp_present(s, true)) positions.emplace_back(s.row, s.col);
+  }
+  detail::Pattern<std::complex<double>> pattern;
+  if (!pattern.lu.analyse(L.size, positions, row_major(d.ac))) return false;
+  pattern.lu.reserve_columns(static_cast<std::size_t>(d.ac_x.cols()));
+  compile_fill(L, nullptr, {}, true, pattern);
+  d.ac_patterns.push_back(std::move(pattern));
+  return true;
+}
+
+SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws,
+                               const std::vector<std::size_t>& held_outputs) const {
+  auto& d = ws.data();
+  mark_held(*layout_, d, held_outputs);
+  d.dc_active = npos;
+  const SolveStatus values = check_values(parameters);
+  if (values != SolveStatus::ok) return values;
   if (layout_->size == 0) return SolveStatus::ok;
+  const std::size_t i = find_pattern(d.dc_patterns, held_outputs);
+  if (i != npos) {
+    if (factor_pattern(d.dc_patterns[i], parameters, 0.0)) {
+      d.dc_active = i;
+      ++d.pattern_factors;
+      return SolveStatus::ok;
+    }
+    ++d.dense_fallbacks;
+  }
+  fill_dense_dc(*layout_, parameters, d, held_outputs);
   d.lu.compute(d.a);
   return pivot_status(d.lu, d.a);
 }
@@ -349,15 +536,20 @@ SolveStatus Network::factor_dc(const double* parameters, NetworkWorkspace& ws,
 SolveStatus Network::factor_ac(const double* parameters, double frequency,
                                NetworkWorkspace& ws) const {
   auto& d = ws.data();
+  d.ac_active = npos;
   const SolveStatus values = check_values(parameters);
   if (values != SolveStatus::ok) return values;
-  d.ac.setZero();
-  for (const auto& s : layout_->matrix) {
-    d.ac(static_cast<Eigen::Index>(s.row), static_cast<Eigen::Index>(s.col)) +=
-        complex_stamp(s, parameters, frequency);
-  }
   d.frequency = frequency;
   if (layout_->size == 0) return SolveStatus::ok;
+  if (!d.ac_patterns.empty()) {
+    if (factor_pattern(d.ac_patterns[0], parameters, frequency)) {
+      d.ac_active = 0;
+      ++d.pattern_factors;
+      return SolveStatus::ok;
+    }
+    ++d.dense_fallbacks;
+  }
+  fill_dense_ac(*layout_, parameters, frequency, d);
   d.ac_lu.compute(d.ac);
   return pivot_status(d.ac_lu, d.ac);
 }
@@ -366,21 +558,21 @@ namespace {
 
 // `held` marks the branch rows of held op-amp outputs (DC only; nullptr for none): their
 // offset terms give way to the held level.
-template <typename Vector>
-void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, Vector& rhs,
+template <typename T>
+void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, T* rhs,
               const unsigned char* held) {
-  rhs.setZero();
+  std::fill(rhs, rhs + L.size, T(0));
   for (const auto& s : L.sources) {
     double value = ex.sources_at_value ? theta[s.p] : 0.0;
     for (const auto& o : ex.overrides) {
       if (o.first == s.element) value = o.second;
     }
-    rhs(static_cast<Eigen::Index>(s.row)) += s.sign * value;
+    rhs[s.row] += s.sign * value;
   }
   if (ex.opamp_errors) {
     for (const auto& s : L.errors) {
       if (held && held[s.row]) continue;
-      rhs(static_cast<Eigen::Index>(s.row)) += s.sign * theta[s.p];
+      rhs[s.row] += s.sign * theta[s.p];
     }
   }
   if (held) {
@@ -388,7 +580,7 @@ void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& e
       const std::size_t i =
           level.first < L.opamp_of_element.size() ? L.opamp_of_element[level.first] : Network::npos;
       if (i == Network::npos || !held[L.opamps[i].branch]) continue;
-      rhs(static_cast<Eigen::Index>(L.opamps[i].branch)) = level.second;
+      rhs[L.opamps[i].branch] = level.second;
     }
   }
 }
@@ -398,9 +590,13 @@ void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& e
 const double* Network::solve_dc(const double* parameters, const Excitation& excitation,
                                 NetworkWorkspace& ws, std::size_t slot) const {
   auto& d = ws.data();
-  fill_rhs(*layout_, parameters, excitation, d.rhs, d.held_row.data());
+  fill_rhs(*layout_, parameters, excitation, d.rhs.data(), d.held_row.data());
   auto column = d.x.col(static_cast<Eigen::Index>(slot));
-  if (layout_->size > 0) column.noalias() = d.lu.solve(d.rhs);
+  if (d.dc_active != npos) {
+    d.dc_patterns[d.dc_active].lu.solve(d.rhs.data(), column.data());
+  } else if (layout_->size > 0) {
+    column.noalias() = d.lu.solve(d.rhs);
+  }
   return column.data();
 }
 
@@ -408,10 +604,54 @@ const std::complex<double>* Network::solve_ac(const double* parameters,
                                               const Excitation& excitation, NetworkWorkspace& ws,
                                               std::size_t slot) const {
   auto& d = ws.data();
-  fill_rhs(*layout_, parameters, excitation, d.ac_rhs, nullptr);
+  fill_rhs(*layout_, parameters, excitation, d.ac_rhs.data(), nullptr);
   auto column = d.ac_x.col(static_cast<Eigen::Index>(slot));
-  if (layout_->size > 0) column.noalias() = d.ac_lu.solve(d.ac_rhs);
+  if (d.ac_active != npos) {
+    d.ac_patterns[d.ac_active].lu.solve(d.ac_rhs.data(), column.data());
+  } else if (layout_->size > 0) {
+    column.noalias() = d.ac_lu.solve(d.ac_rhs);
+  }
   return column.data();
+}
+
+void Network::solve_dc(const double* parameters, const Excitation* excitations, std::size_t count,
+                       NetworkWorkspace& ws) const {
+  auto& d = ws.data();
+  if (count > static_cast<std::size_t>(d.x.cols())) {
+    throw Error("solve_dc: " + std::to_string(count) + " excitations but room for " +
+                std::to_string(d.x.cols()));
+  }
+  for (std::size_t e = 0; e < count; ++e) {
+    double* rhs = d.rhs_block.col(static_cast<Eigen::Index>(e)).data();
+    fill_rhs(*layout_, parameters, excitations[e], rhs, d.held_row.data());
+  }
+  const auto n = static_cast<std::size_t>(layout_->size);
+  if (d.dc_active != npos) {
+    d.dc_patterns[d.dc_active].lu.solve_block(d.rhs_block.data(), n, d.x.data(), n, count);
+  } else if (n > 0) {
+    const auto c = static_cast<Eigen::Index>(count);
+    d.x.leftCols(c).noalias() = d.lu.solve(d.rhs_block.leftCols(c));
+  }
+}
+
+void Network::solve_ac(const double* parameters, const Excitation* excitations, std::size_t count,
+                       NetworkWorkspace& ws) const {
+  auto& d = ws.data();
+  if (count > static_cast<std::size_t>(d.ac_x.cols())) {
+    throw Error("solve_ac: " + std::to_string(count) + " excitations but room for " +
+                std::to_string(d.ac_x.cols()));
+  }
+  for (std::size_t e = 0; e < count; ++e) {
+    fill_rhs(*layout_, parameters, excitations[e],
+             d.ac_rhs_block.col(static_cast<Eigen::Index>(e)).data(), nullptr);
+  }
+  const auto n = static_cast<std::size_t>(layout_->size);
+  if (d.ac_active != npos) {
+    d.ac_patterns[d.ac_active].lu.solve_block(d.ac_rhs_block.data(), n, d.ac_x.data(), n, count);
+  } else if (n > 0) {
+    const auto c = static_cast<Eigen::Index>(count);
+    d.ac_x.leftCols(c).noalias() = d.ac_lu.solve(d.ac_rhs_block.leftCols(c));
+  }
 }
 
 std::string Network::diagnose_singular(const double* parameters, double frequency,

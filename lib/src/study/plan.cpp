@@ -510,7 +510,20 @@ Evaluator::Evaluator(const Network& network, const Plan& plan)
       plan_(plan),
       workspace_(network.make_workspace(plan.slots)),
       probe_values_(plan.probes.size()),
-      saturated_(plan.measurements.size(), 0) {}
+      saturated_(plan.measurements.size(), 0) {
+  // One pivot order per kind of matrix, chosen at nominal values and reused by every
+  // sample (the dense factorisation remains the fallback).
+  std::vector<double> nominal;
+  for (const auto& p : network.circuit().parameters()) nominal.push_back(p.nominal);
+  bool ac = false;
+  for (const Analysis& analysis : plan.analyses) {
+    if (analysis.frequency == 0.0) {
+      network.prepare_dc(nominal.data(), workspace_, analysis.held);
+    } else if (!ac) {
+      ac = network.prepare_ac(nominal.data(), analysis.frequency, workspace_);
+    }
+  }
+}
 
 SolveStatus Evaluator::evaluate(const double* theta, double* values) {
   for (std::size_t a = 0; a < plan_.analyses.size(); ++a) {
@@ -524,9 +537,13 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
       saturated_opamp_ = Network::npos;
       return status;
     }
-    for (std::size_t e = 0; e < analysis.excitations.size(); ++e) {
-      if (dc) network_.solve_dc(theta, analysis.excitations[e], workspace_, e);
-      else network_.solve_ac(theta, analysis.excitations[e], workspace_, e);
+    // All right-hand sides of the analysis in one pass over the factors.
+    const Excitation* excitations = analysis.excitations.data();
+    const std::size_t count = analysis.excitations.size();
+    if (dc) {
+      network_.solve_dc(theta, excitations, count, workspace_);
+    } else {
+      network_.solve_ac(theta, excitations, count, workspace_);
     }
     auto& d = workspace_.data();
     for (std::size_t p = 0; p < plan_.probes.size(); ++p) {

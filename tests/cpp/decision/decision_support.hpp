@@ -9,18 +9,6 @@
 
 namespace lotwise::testing {
 
-inline Measurement measure(std::string name, MeasurementKind kind,
-                           std::vector<std::string> inputs, std::vector<std::string> output,
-                           double frequency = 0.0) {
-  Measurement m;
-  m.name = std::move(name);
-  m.kind = kind;
-  m.inputs = std::move(inputs);
-  m.output = std::move(output);
-  m.frequency = frequency;
-  return m;
-}
-
 /// A trip-point measurement of op-amp `opamp` driven by `source`.
 inline Measurement trip(std::string name, MeasurementKind kind, std::string source,
                         std::string opamp, std::vector<std::string> output = {}) {
@@ -39,33 +27,6 @@ inline std::vector<Measurement> thresholds(const std::string& source, const std:
           trip("fall", MeasurementKind::falling_threshold, source, opamp),
           trip("hyst", MeasurementKind::hysteresis, source, opamp),
           trip("centre", MeasurementKind::threshold_centre, source, opamp)};
-}
-
-inline Design make_design(Circuit circuit, std::vector<Measurement> measurements,
-                          std::vector<Variation> variations = {}, std::vector<Spec> specs = {}) {
-  Design d;
-  d.title = "decision test";
-  d.circuit = std::move(circuit);
-  d.measurements = std::move(measurements);
-  d.variations = std::move(variations);
-  d.specs = std::move(specs);
-  return d;
-}
-
-inline Study make_study(Circuit circuit, std::vector<Measurement> measurements,
-                        std::vector<Variation> variations = {}, std::vector<Spec> specs = {}) {
-  return Study(make_design(std::move(circuit), std::move(measurements), std::move(variations),
-                           std::move(specs)));
-}
-
-/// Nominal value of the measurement called `name`.
-inline double nominal_value(const Study& study, const std::string& name) {
-  const auto& ms = study.design().measurements;
-  for (std::size_t i = 0; i < ms.size(); ++i) {
-    if (ms[i].name == name) return study.nominal_values()[i];
-  }
-  FAIL("no measurement called " << name);
-  return 0.0;
 }
 
 /// An op-amp whose output reaches exactly `low` and `high`.

@@ -8,39 +8,6 @@
 
 namespace lotwise::testing {
 
-inline Measurement measure(std::string name, MeasurementKind kind,
-                           std::vector<std::string> inputs, std::vector<std::string> output,
-                           double frequency = 0.0) {
-  Measurement m;
-  m.name = std::move(name);
-  m.kind = kind;
-  m.inputs = std::move(inputs);
-  m.output = std::move(output);
-  m.frequency = frequency;
-  return m;
-}
-
-inline Study make_study(Circuit circuit, std::vector<Measurement> measurements,
-                        std::vector<Variation> variations = {}, std::vector<Spec> specs = {}) {
-  Design d;
-  d.title = "engine test";
-  d.circuit = std::move(circuit);
-  d.measurements = std::move(measurements);
-  d.variations = std::move(variations);
-  d.specs = std::move(specs);
-  return Study(std::move(d));
-}
-
-/// Nominal value of the measurement called `name`.
-inline double nominal_value(const Study& study, const std::string& name) {
-  const auto& ms = study.design().measurements;
-  for (std::size_t i = 0; i < ms.size(); ++i) {
-    if (ms[i].name == name) return study.nominal_values()[i];
-  }
-  FAIL("no measurement called " << name);
-  return 0.0;
-}
-
 inline OpAmpSpec ideal_opamp() { return OpAmpSpec{}; }
 
 inline OpAmpSpec finite_gain_opamp(double a0) {

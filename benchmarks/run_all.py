@@ -1,0 +1,172 @@
+"""Builds the benchmarks, runs them with their references in one go and prints the
+figures of docs/performance.md as ratios against the references measured in this run.
+
+    python benchmarks/run_all.py [--build-dir build-perf] [--no-build] [--quick]
+                                 [--json results.json]
+
+Needs cmake, ninja, Google Benchmark (libbenchmark-dev), numpy, and for reference (c)
+the lotwise Python module (built here into <build-dir>/python, or already importable).
+Single-thread rates are per CPU second of the process, so a busy machine slows the wall
+clock but not the figures; thread scaling is per wall second and needs idle cores.
+"""
+
+from __future__ import annotations
+
+import argparse
+import glob
+import json
+import os
+import subprocess
+import sys
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+ROOT = os.path.dirname(HERE)
+INAMP = os.path.join(HERE, "studies", "instrumentation_amp.toml")
+
+
+def sh(cmd: list, env: dict | None = None) -> str:
+    print("+ " + " ".join(cmd), file=sys.stderr, flush=True)
+    return subprocess.run(cmd, check=True, stdout=subprocess.PIPE, env=env, text=True).stdout
+
+
+def build(build_dir: str) -> None:
+    if not os.path.exists(os.path.join(build_dir, "build.ninja")):
+        sh(["cmake", "-S", ROOT, "-B", build_dir, "-G", "Ninja", "-DCMAKE_BUILD_TYPE=Release",
+            "-DLOTWISE_BUILD_BENCHMARKS=ON", "-DLOTWISE_BUILD_PYTHON=ON"])
+    sh(["cmake", "--build", build_dir, "-j2", "--target", "lotwise_engine_speed",
+        "lotwise_run_once"])
+    try:
+        sh(["cmake", "--build", build_dir, "-j2", "--target", "_core"])
+    except subprocess.CalledProcessError:
+        print("(the Python module did not build; reference (c) uses an installed lotwise "
+              "if there is one)", file=sys.stderr)
+
+
+def python_env(build_dir: str) -> dict:
+    env = dict(os.environ, OPENBLAS_NUM_THREADS="1", OMP_NUM_THREADS="1", MKL_NUM_THREADS="1")
+    # The freshly built extension next to the package sources, if there is one.
+    cores = glob.glob(os.path.join(build_dir, "**", "_core*.so"), recursive=True)
+    if cores:
+        env["PYTHONPATH"] = os.pathsep.join(
+            [os.path.dirname(os.path.dirname(cores[0])), env.get("PYTHONPATH", "")])
+    return env
+
+
+def gbench(build_dir: str, quick: bool) -> dict:
+    exe = os.path.join(build_dir, "benchmarks", "lotwise_engine_speed")
+    args = [exe, "--benchmark_format=json"]
+    if quick:
+        args.append("--benchmark_min_time=0.2")
+    out = json.loads(sh(args))
+    # Names without the timing suffixes (/min_time:..., /process_time, /real_time).
+    keep = lambda part: not part.startswith("min_time:") and part not in ("process_time", "real_time")
+    return {"/".join(p for p in b["name"].split("/") if keep(p)): b for b in out["benchmarks"]}
+
+
+def rate(b: dict) -> float:
+    return float(b["samples_per_s"])
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--build-dir", default=os.path.join(ROOT, "build-perf"))
+    ap.add_argument("--no-build", action="store_true")
+    ap.add_argument("--quick", action="store_true", help="shorter runs, memory up to 1e6")
+    ap.add_argument("--json", help="also write every figure to this file")
+    a = ap.parse_args()
+    build_dir = os.path.abspath(a.build_dir)
+    if not a.no_build:
+        build(build_dir)
+    env = python_env(build_dir)
+    figures: dict = {}
+
+    g = gbench(build_dir, a.quick)
+    figures["google_benchmark"] = g
+    lw0 = rate(g["BM_inamp/attribution:0/threads:1"])
+    lw1 = rate(g["BM_inamp/attribution:1/threads:1"])
+    closed = rate(g["BM_inamp_closed_form"])
+    draws = rate(g["BM_inamp_draws_only"])
+
+    numpy_ref = json.loads(sh([sys.executable, os.path.join(HERE, "numpy_reference.py"),
+                               "50000" if a.quick else "200000"], env=env))
+    figures["numpy"] = numpy_ref
+    py = {}
+    for attribution in ("0", "1"):
+        try:
+            py[attribution] = json.loads(sh([sys.executable, os.path.join(HERE, "python_reference.py"),
+                                             str(1 << 18 if a.quick else 1 << 20), attribution],
+                                            env=env))
+        except subprocess.CalledProcessError:
+            py[attribution] = None
+    figures["python"] = py
+
+    print("\n== Instrumentation amplifier (13 varied parameters), one core, samples per CPU second")
+    print(f"  lotwise, attribution off        {lw0:12.0f}")
+    print(f"  lotwise, attribution on         {lw1:12.0f}   (attribution costs "
+          f"{100.0 * (lw0 / lw1 - 1.0):.0f} % more time)")
+    print(f"  (a) closed form, same draws     {closed:12.0f}   lotwise is {closed / lw0:.2f}x "
+          f"slower (target <= 1.5x); {closed / lw1:.2f}x with attribution")
+    print(f"      draws alone                 {draws:12.0f}")
+    print(f"  (b) numpy batched solve         {numpy_ref['samples_per_cpu_s']:12.0f}   lotwise is "
+          f"{lw0 / numpy_ref['samples_per_cpu_s']:.0f}x faster (target >= 30x); "
+          f"{lw1 / numpy_ref['samples_per_cpu_s']:.0f}x with attribution")
+    for attribution, label in (("0", "off"), ("1", "on")):
+        r = py.get(attribution)
+        if r:
+            base = lw0 if attribution == "0" else lw1
+            print(f"  (c) lotwise from Python, attr. {label:3s}{r['samples_per_cpu_s']:12.0f}   "
+                  f"{r['samples_per_cpu_s'] / base:.2f}x the C++ rate")
+        else:
+            print(f"  (c) lotwise from Python, attr. {label}: not available (module not importable)")
+
+    parts = {
+        "sampling (draws, prepare, apply)": rate(g["BM_inamp_part_sampling"]),
+        "evaluate (fill, factor, 3 solves, measurements)": rate(g["BM_inamp_part_evaluate"]),
+    }
+    print("\n== Where one in-amp sample's time goes (ns per sample)")
+    for k, v in parts.items():
+        print(f"  {k:52s}{1e9 / v:8.1f}")
+    print(f"  {'whole Study::run, attribution off':52s}{1e9 / lw0:8.1f}")
+    print(f"  {'whole Study::run, attribution on':52s}{1e9 / lw1:8.1f}")
+    dense = rate(g["BM_inamp_part_factor_solve/pattern:0"])
+    pattern = rate(g["BM_inamp_part_factor_solve/pattern:1"])
+    print(f"  factor + 3 solves: dense LU {1e9 / dense:.1f} ns, reused pattern "
+          f"{1e9 / pattern:.1f} ns ({dense and pattern / dense:.1f}x faster)")
+
+    print("\n== Schmitt trigger trip points, one core")
+    for k in ("BM_schmitt/attribution:0", "BM_schmitt/attribution:1"):
+        print(f"  {k:40s}{rate(g[k]):12.0f} samples/s")
+
+    print("\n== Filter chain: cost per sample against nonzeros (AC, 3 gains + 1 phase)")
+    print("  stages unknowns  L+U nnz  updates  samples/s   ns/sample  ns/sample/nnz")
+    for name, b in g.items():
+        if not name.startswith("BM_filter_chain") or not name.endswith("attribution:0"):
+            continue
+        r = rate(b)
+        stages = name.split("stages:")[1].split("/")[0]
+        nnz = float(b["nonzeros_LU"])
+        print(f"  {stages:>6s} {b['unknowns']:8.0f} {nnz:8.0f} {b['updates_LU']:8.0f} {r:10.0f} "
+              f"{1e9 / r:11.0f} {1e9 / r / nnz:13.2f}")
+
+    w1 = rate(g["BM_inamp_wall/attribution:0/threads:1"])
+    w2 = rate(g["BM_inamp_wall/attribution:0/threads:2"])
+    print(f"\n== Thread scaling (wall clock, in-amp): 1 thread {w1:.0f}/s, 2 threads {w2:.0f}/s, "
+          f"{w2 / w1:.2f}x (target >= 1.8x; needs two idle cores)")
+
+    print("\n== Peak memory against sample count (in-amp, attribution on, no kept samples)")
+    run_once = os.path.join(build_dir, "benchmarks", "lotwise_run_once")
+    counts = [10**5, 10**6] if a.quick else [10**5, 10**6, 10**7]
+    figures["memory"] = []
+    for n in counts:
+        r = json.loads(sh([run_once, INAMP, str(n), "1", "1"]))
+        figures["memory"].append(r)
+        print(f"  {n:>10d} samples: max RSS {r['max_rss_kib'] / 1024:7.1f} MiB, "
+              f"{r['samples_per_s']:10.0f} samples/s (wall)")
+    if a.json:
+        with open(a.json, "w") as f:
+            json.dump(figures, f, indent=1)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
