@@ -120,19 +120,10 @@ void bind_parameter_sweep(py::module_& m) {
           list.push_back(ParameterSweepAxis{sweep_setting(setting), parameter, values});
         }
         if (list.empty()) list = design.sweep;
-        const RunSettings& d = design.run;
-        RunOptions o;
-        o.samples = samples.value_or(d.samples);
-        o.seed = seed.value_or(d.seed);
-        o.threads = threads.value_or(d.threads);
-        o.chunk_size = chunk_size;
-        o.confidence = confidence.value_or(d.confidence);
-        o.sampler = sampler ? sampler_word(*sampler) : d.sampler;
-        o.replicates = replicates.value_or(d.replicates);
-        o.histogram_bins = histogram_bins;
-        o.attribution = attribution;
-        o.regression_samples = regression_samples;
-        o.builds_per_lot = builds_per_lot.value_or(d.builds_per_lot);
+        // Each point runs to its sample count: no adaptive stop within a sweep.
+        RunOptions o = run_options(design.run, samples, seed, threads, chunk_size, confidence,
+                                   false, sampler, replicates, histogram_bins, 0.0,
+                                   attribution, 0u, regression_samples, builds_per_lot);
         std::size_t points = 1;
         for (const auto& a : list) points *= a.values.size();
         // Progress over the whole sweep: each point's run counts from zero again.

@@ -158,34 +158,6 @@ py::tuple evaluate(const Study& s, const DoubleArray& parameters) {
   return py::make_tuple(copy_to_array(values), word, opamps, withheld, message);
 }
 
-RunOptions run_options(const Study& s, std::optional<std::uint64_t> samples,
-                       std::optional<std::uint64_t> seed, std::optional<unsigned> threads,
-                       std::uint32_t chunk_size, std::optional<double> confidence,
-                       bool keep_samples, std::optional<std::string> sampler,
-                       std::optional<std::uint32_t> replicates, std::uint32_t histogram_bins,
-                       std::optional<double> target_half_width, bool attribution,
-                       std::optional<std::uint32_t> tolerance_digits,
-                       std::uint64_t regression_samples,
-                       std::optional<std::uint64_t> builds_per_lot) {
-  const RunSettings& d = s.design().run;
-  RunOptions o;
-  o.samples = samples.value_or(d.samples);
-  o.seed = seed.value_or(d.seed);
-  o.threads = threads.value_or(d.threads);
-  o.chunk_size = chunk_size;
-  o.confidence = confidence.value_or(d.confidence);
-  o.keep_samples = keep_samples;
-  o.sampler = sampler ? sampler_word(*sampler) : d.sampler;
-  o.replicates = replicates.value_or(d.replicates);
-  o.histogram_bins = histogram_bins;
-  o.target_half_width = target_half_width.value_or(d.target_half_width);
-  o.attribution = attribution;
-  o.tolerance_digits = tolerance_digits.value_or(d.tolerance_digits);
-  o.regression_samples = regression_samples;
-  o.builds_per_lot = builds_per_lot.value_or(d.builds_per_lot);
-  return o;
-}
-
 // A rows x columns copy of a row-major vector (NaN-filled if the run left it empty).
 py::array_t<double> matrix(const std::vector<double>& v, std::size_t rows, std::size_t columns) {
   py::array_t<double> out({static_cast<py::ssize_t>(rows), static_cast<py::ssize_t>(columns)});
@@ -384,7 +356,7 @@ void bind_study(py::module_& m) {
               std::optional<std::uint32_t> tolerance_digits, std::uint64_t regression_samples,
               std::optional<std::uint64_t> builds_per_lot, const StopToken* stop,
               RunReport* report) {
-             RunOptions o = run_options(s, samples, seed, threads, chunk_size, confidence,
+             RunOptions o = run_options(s.design().run, samples, seed, threads, chunk_size, confidence,
                                         keep_samples, sampler, replicates, histogram_bins,
                                         target_half_width, attribution, tolerance_digits,
                                         regression_samples, builds_per_lot);

@@ -5,7 +5,9 @@
 #include <pybind11/pybind11.h>
 #include <pybind11/stl.h>
 
+#include <cstdint>
 #include <initializer_list>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -38,6 +40,18 @@ Enum from_word(const std::string& word, std::initializer_list<Enum> all, const s
 Distribution distribution_word(const std::string& word, const std::string& what);
 Sampler sampler_word(const std::string& word);
 PreferredSeries series_word(const std::string& word);
+
+// Run options from the keyword arguments of a run, each missing one taken from the
+// design's run settings.
+RunOptions run_options(const RunSettings& defaults, std::optional<std::uint64_t> samples,
+                       std::optional<std::uint64_t> seed, std::optional<unsigned> threads,
+                       std::uint32_t chunk_size, std::optional<double> confidence,
+                       bool keep_samples, std::optional<std::string> sampler,
+                       std::optional<std::uint32_t> replicates, std::uint32_t histogram_bins,
+                       std::optional<double> target_half_width, bool attribution,
+                       std::optional<std::uint32_t> tolerance_digits,
+                       std::uint64_t regression_samples,
+                       std::optional<std::uint64_t> builds_per_lot);
 
 // An Interval as a (low, high) tuple.
 inline py::tuple interval_tuple(const Interval& i) { return py::make_tuple(i.low, i.high); }

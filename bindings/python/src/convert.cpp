@@ -88,4 +88,31 @@ py::dict temperature_dict(const TemperatureResult& t) {
                   py::arg("measurements") = measurements);
 }
 
+RunOptions run_options(const RunSettings& d, std::optional<std::uint64_t> samples,
+                       std::optional<std::uint64_t> seed, std::optional<unsigned> threads,
+                       std::uint32_t chunk_size, std::optional<double> confidence,
+                       bool keep_samples, std::optional<std::string> sampler,
+                       std::optional<std::uint32_t> replicates, std::uint32_t histogram_bins,
+                       std::optional<double> target_half_width, bool attribution,
+                       std::optional<std::uint32_t> tolerance_digits,
+                       std::uint64_t regression_samples,
+                       std::optional<std::uint64_t> builds_per_lot) {
+  RunOptions o;
+  o.samples = samples.value_or(d.samples);
+  o.seed = seed.value_or(d.seed);
+  o.threads = threads.value_or(d.threads);
+  o.chunk_size = chunk_size;
+  o.confidence = confidence.value_or(d.confidence);
+  o.keep_samples = keep_samples;
+  o.sampler = sampler ? sampler_word(*sampler) : d.sampler;
+  o.replicates = replicates.value_or(d.replicates);
+  o.histogram_bins = histogram_bins;
+  o.target_half_width = target_half_width.value_or(d.target_half_width);
+  o.attribution = attribution;
+  o.tolerance_digits = tolerance_digits.value_or(d.tolerance_digits);
+  o.regression_samples = regression_samples;
+  o.builds_per_lot = builds_per_lot.value_or(d.builds_per_lot);
+  return o;
+}
+
 }  // namespace lotwise::python

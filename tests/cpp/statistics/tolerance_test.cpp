@@ -3,31 +3,11 @@
 // tolerance of the standard uncertainty.
 #include <cmath>
 
-#include "engine/engine_support.hpp"
+#include "statistics/additive_model.hpp"
 #include "study/run_merger.hpp"
 
 using namespace lotwise;
 using namespace lotwise::testing;
-
-namespace {
-
-// JCGM 101:2008 9.2.2: Y = X1 + X2 + X3 + X4, each X normal with standard deviation 1.
-Study additive_normal() {
-  Circuit c;
-  c.add_voltage_source("X1", "n1", "gnd", 0.0);
-  c.add_voltage_source("X2", "n2", "n1", 0.0);
-  c.add_voltage_source("X3", "n3", "n2", 0.0);
-  c.add_voltage_source("X4", "n4", "n3", 0.0);
-  c.add_resistor("RL", "n4", "gnd", 1e3);
-  Variation v;
-  v.targets = {"X*"};
-  v.relative = false;
-  v.tolerance = 3.0;
-  v.sigmas = 3.0;
-  return make_study(c, {measure("y", MeasurementKind::node_voltage, {}, {"n4"})}, {v});
-}
-
-}  // namespace
 
 TEST_CASE("numerical tolerance of a standard uncertainty", "[tolerance]") {
   // JCGM 101:2008, 7.9.2, example 1: u(y) = 1 as 1 x 10^0 with one significant digit
@@ -39,7 +19,7 @@ TEST_CASE("numerical tolerance of a standard uncertainty", "[tolerance]") {
 }
 
 TEST_CASE("JCGM 101 adaptive procedure on the additive model", "[tolerance][slow]") {
-  const Study study = additive_normal();
+  const Study study = additive_model(Distribution::normal);
   RunOptions o;
   o.samples = 5000000;  // cap
   o.seed = 2008;
@@ -65,7 +45,7 @@ TEST_CASE("JCGM 101 adaptive procedure on the additive model", "[tolerance][slow
 }
 
 TEST_CASE("tolerance digits need one replicate and histograms", "[tolerance][errors]") {
-  const Study study = additive_normal();
+  const Study study = additive_model(Distribution::normal);
   RunOptions o;
   o.samples = 1000;
   o.tolerance_digits = 4;
