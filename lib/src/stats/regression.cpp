@@ -118,4 +118,74 @@ RegressionSummary regress(const double* data, std::size_t rows, std::size_t stri
   return out;
 }
 
+std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
+                                           std::size_t stride, std::size_t x_count,
+                                           std::size_t y_count) {
+  const double nan = std::numeric_limits<double>::quiet_NaN();
+  std::vector<RegressionSummary> out(y_count);
+  // Rows with every parameter finite; a measurement column that is finite on all of them
+  // uses the shared factorisation and ranks.
+  bool parameters_finite = true;
+  for (std::size_t i = 0; i < rows && parameters_finite; ++i) {
+    for (std::size_t j = 0; j < x_count; ++j) parameters_finite = parameters_finite && std::isfinite(data[i * stride + j]);
+  }
+  std::vector<bool> shared(y_count, false);
+  for (std::size_t k = 0; k < y_count; ++k) {
+    bool all = parameters_finite && rows >= x_count + 2;
+    for (std::size_t i = 0; i < rows && all; ++i) all = std::isfinite(data[i * stride + x_count + k]);
+    shared[k] = all;
+    if (!all) out[k] = regress(data, rows, stride, x_count, x_count + k);
+  }
+  if (std::find(shared.begin(), shared.end(), true) == shared.end()) return out;
+
+  const auto n = static_cast<Eigen::Index>(rows);
+  Eigen::MatrixXd x(n, static_cast<Eigen::Index>(x_count));
+  std::vector<std::size_t> active;
+  std::vector<double> sd(x_count, 0.0);
+  std::vector<std::vector<double>> x_ranks(x_count);
+  std::vector<double> column(rows);
+  for (std::size_t j = 0; j < x_count; ++j) {
+    for (std::size_t i = 0; i < rows; ++i) column[i] = data[i * stride + j];
+    for (std::size_t i = 0; i < rows; ++i) x(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = column[i];
+    auto c = x.col(static_cast<Eigen::Index>(j));
+    c.array() -= c.mean();
+    const double s = c.squaredNorm();
+    if (s > 0.0) {
+      active.push_back(j);
+      sd[j] = std::sqrt(s);
+      x_ranks[j] = average_ranks(column);
+    }
+  }
+  Eigen::MatrixXd a(n, static_cast<Eigen::Index>(active.size()));
+  for (std::size_t k = 0; k < active.size(); ++k) {
+    a.col(static_cast<Eigen::Index>(k)) = x.col(static_cast<Eigen::Index>(active[k]));
+  }
+  const Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(a);
+  const bool full_rank = qr.rank() == static_cast<Eigen::Index>(active.size());
+  for (std::size_t k = 0; k < y_count; ++k) {
+    if (!shared[k]) continue;
+    RegressionSummary& r = out[k];
+    r.standardized.assign(x_count, nan);
+    r.rank_correlation.assign(x_count, nan);
+    r.r_squared = nan;
+    r.rows = rows;
+    for (std::size_t i = 0; i < rows; ++i) column[i] = data[i * stride + x_count + k];
+    Eigen::VectorXd y = Eigen::Map<const Eigen::VectorXd>(column.data(), n);
+    y.array() -= y.mean();
+    const double syy = y.squaredNorm();
+    if (!(syy > 0.0)) continue;
+    if (full_rank && !active.empty()) {
+      const Eigen::VectorXd b = qr.solve(y);
+      const double sy = std::sqrt(syy);
+      for (std::size_t j = 0; j < active.size(); ++j) {
+        r.standardized[active[j]] = b(static_cast<Eigen::Index>(j)) * sd[active[j]] / sy;
+      }
+      r.r_squared = 1.0 - (y - a * b).squaredNorm() / syy;
+    }
+    const std::vector<double> y_ranks = average_ranks(column);
+    for (std::size_t j : active) r.rank_correlation[j] = pearson(x_ranks[j], y_ranks);
+  }
+  return out;
+}
+
 }  // namespace lotwise::detail

@@ -24,6 +24,13 @@ struct RegressionSummary {
 RegressionSummary regress(const double* data, std::size_t rows, std::size_t stride,
                           std::size_t x_count, std::size_t y_column);
 
+/// regress() for measurement columns x_count .. x_count + y_count - 1 at once. Columns whose
+/// values are all finite share one QR factorisation of the parameters and one set of
+/// parameter ranks; the others are fitted one by one.
+std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
+                                           std::size_t stride, std::size_t x_count,
+                                           std::size_t y_count);
+
 /// Ranks (1-based, ties given their average rank) of n values.
 std::vector<double> average_ranks(const std::vector<double>& values);
 

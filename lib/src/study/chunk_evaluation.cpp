@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 
 #include <boost/math/distributions/normal.hpp>
 
@@ -20,6 +21,13 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
       spec_ok_(shape.specs),
       spec_saturated_(shape.specs),
       point_(study.model.dimension()) {
+  if (shape.attribution) {
+    const std::size_t a = shape.varied.size();
+    attribution_rows_.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations *
+                              (a + shape.measurements + 1));
+    moment_scratch_.resize(3 * a);
+    parameter_scratch_.resize(8 * a);
+  }
   if (options.builds_per_lot > 0) {
     for (std::size_t c = 0; c < study.model.coordinates().size(); ++c) {
       if (study.model.coordinates()[c].lot) lot_coordinates_.push_back(c);
@@ -74,6 +82,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
                                   evaluations * (v_count + m_count));
   }
 
+  attribution_rows_.clear();
   double* theta = theta_.data();
   double* values = values_.data();
   points_.start(o.seed, k, range.replicate, range.begin, static_cast<std::size_t>(range.count));
@@ -137,11 +146,6 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
           if (lot_stats) lot_stats->stats[m].add(values[m]);
           if (!tally.histograms.empty()) tally.histograms[m].add(values[m]);
           if (pilot) tally.pilot.push_back(values[m]);
-          if (a_count > 0 && std::isfinite(values[m])) {
-            for (std::size_t a = 0; a < a_count; ++a) {
-              tally.pairs[m * a_count + a].add(theta[varied[a]], values[m]);
-            }
-          }
         }
         for (std::size_t j = 0; j < spec_count; ++j) {
           const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
@@ -163,9 +167,16 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         here->passed += ok_here;
       }
       pass = pass && ok_here;
-      for (std::size_t a = 0; a < a_count; ++a) {
-        tally.parameter_all[a].add(theta[varied[a]]);
-        if (!ok_here) tally.parameter_failing[a].add(theta[varied[a]]);
+      if (a_count > 0) {
+        // One row per evaluation; the chunk's attribution moments come from the rows at
+        // its end. A value that did not enter the statistics enters no co-moment (NaN).
+        for (std::size_t a = 0; a < a_count; ++a) attribution_rows_.push_back(theta[varied[a]]);
+        const std::vector<unsigned char>& withheld = evaluator_.saturated();
+        for (std::size_t m = 0; m < m_count; ++m) {
+          const bool entered = status == SolveStatus::ok && !withheld[m];
+          attribution_rows_.push_back(entered ? values[m] : std::numeric_limits<double>::quiet_NaN());
+        }
+        attribution_rows_.push_back(ok_here ? 1.0 : 0.0);
       }
       if (o.keep_samples) {
         tally.values.insert(tally.values.end(), values, values + m_count);
@@ -191,7 +202,137 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
     tally.builds.passed += pass;
     if (o.keep_samples) tally.pass.push_back(pass);
   }
+  if (a_count > 0) attribution_moments(tally, a_count, m_count);
   return tally;
+}
+
+// Two passes over the chunk's rows (means, then centred sums): no division per sample,
+// unlike one Welford update per pair, and the same numbers on any thread count.
+void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
+                                         std::size_t m_count) const {
+  const std::size_t stride = a_count + m_count + 1;
+  const std::size_t rows = attribution_rows_.size() / stride;
+  const double* data = attribution_rows_.data();
+  // Each parameter over all rows and over the failing ones. Parameter values are finite
+  // but for draws outside the physical range; such a chunk takes the careful path.
+  bool finite = true;
+  for (std::size_t r = 0; r < rows; ++r) {
+    for (std::size_t a = 0; a < a_count; ++a) finite = finite && std::isfinite(data[r * stride + a]);
+  }
+  if (finite) {
+    std::vector<double>& acc = parameter_scratch_;  // 8 per parameter
+    std::fill(acc.begin(), acc.end(), 0.0);
+    double* sum = acc.data();
+    double* sum_f = sum + a_count;
+    double* m2 = sum + 2 * a_count;
+    double* m2_f = sum + 3 * a_count;
+    double* low = sum + 4 * a_count;
+    double* high = sum + 5 * a_count;
+    double* low_f = sum + 6 * a_count;
+    double* high_f = sum + 7 * a_count;
+    const double inf = std::numeric_limits<double>::infinity();
+    std::fill(low, low + a_count, inf);
+    std::fill(low_f, low_f + a_count, inf);
+    std::fill(high, high + a_count, -inf);
+    std::fill(high_f, high_f + a_count, -inf);
+    std::uint64_t failing = 0;
+    for (std::size_t r = 0; r < rows; ++r) {
+      const double* row = data + r * stride;
+      for (std::size_t a = 0; a < a_count; ++a) {
+        sum[a] += row[a];
+        low[a] = std::min(low[a], row[a]);
+        high[a] = std::max(high[a], row[a]);
+      }
+      if (row[stride - 1] != 0.0) continue;
+      ++failing;
+      for (std::size_t a = 0; a < a_count; ++a) {
+        sum_f[a] += row[a];
+        low_f[a] = std::min(low_f[a], row[a]);
+        high_f[a] = std::max(high_f[a], row[a]);
+      }
+    }
+    for (std::size_t a = 0; a < a_count; ++a) {
+      sum[a] /= static_cast<double>(rows);  // now the means
+      if (failing > 0) sum_f[a] /= static_cast<double>(failing);
+    }
+    for (std::size_t r = 0; r < rows; ++r) {
+      const double* row = data + r * stride;
+      for (std::size_t a = 0; a < a_count; ++a) m2[a] += (row[a] - sum[a]) * (row[a] - sum[a]);
+      if (row[stride - 1] != 0.0) continue;
+      for (std::size_t a = 0; a < a_count; ++a) m2_f[a] += (row[a] - sum_f[a]) * (row[a] - sum_f[a]);
+    }
+    for (std::size_t a = 0; a < a_count; ++a) {
+      tally.parameter_all[a] = RunningStats::from_state(
+          RunningStats::State{rows, 0, rows > 0 ? sum[a] : 0.0, m2[a], low[a], high[a]});
+      tally.parameter_failing[a] = RunningStats::from_state(
+          RunningStats::State{failing, 0, failing > 0 ? sum_f[a] : 0.0, m2_f[a], low_f[a], high_f[a]});
+    }
+  }
+  for (std::size_t a = 0; a < a_count && !finite; ++a) {
+    for (const bool failing_only : {false, true}) {
+      std::uint64_t n = 0, non_finite = 0;
+      double sum = 0.0, low = std::numeric_limits<double>::infinity(), high = -low;
+      for (std::size_t r = 0; r < rows; ++r) {
+        const double* row = data + r * stride;
+        if (failing_only && row[stride - 1] != 0.0) continue;
+        const double x = row[a];
+        if (!std::isfinite(x)) {
+          ++non_finite;
+          continue;
+        }
+        ++n;
+        sum += x;
+        low = std::min(low, x);
+        high = std::max(high, x);
+      }
+      RunningStats::State st;
+      st.count = n;
+      st.non_finite = non_finite;
+      st.mean = n > 0 ? sum / static_cast<double>(n) : 0.0;
+      st.min = low;
+      st.max = high;
+      for (std::size_t r = 0; r < rows && n > 0; ++r) {
+        const double* row = data + r * stride;
+        if (failing_only && row[stride - 1] != 0.0) continue;
+        if (std::isfinite(row[a])) st.m2 += (row[a] - st.mean) * (row[a] - st.mean);
+      }
+      (failing_only ? tally.parameter_failing : tally.parameter_all)[a] = RunningStats::from_state(st);
+    }
+  }
+  // Each (measurement, parameter) pair over the rows where the measurement entered.
+  std::vector<double>& mx = moment_scratch_;
+  for (std::size_t m = 0; m < m_count; ++m) {
+    const std::size_t y = a_count + m;
+    double n = 0.0, my = 0.0;
+    std::fill(mx.begin(), mx.end(), 0.0);
+    for (std::size_t r = 0; r < rows; ++r) {
+      const double* row = data + r * stride;
+      if (!std::isfinite(row[y])) continue;
+      n += 1.0;
+      my += row[y];
+      for (std::size_t a = 0; a < a_count; ++a) mx[a] += row[a];
+    }
+    if (n == 0.0) continue;
+    my /= n;
+    for (std::size_t a = 0; a < a_count; ++a) mx[a] /= n;
+    double m2y = 0.0;
+    double* m2x = mx.data() + a_count;
+    double* cxy = mx.data() + 2 * a_count;
+    for (std::size_t r = 0; r < rows; ++r) {
+      const double* row = data + r * stride;
+      if (!std::isfinite(row[y])) continue;
+      const double dy = row[y] - my;
+      m2y += dy * dy;
+      for (std::size_t a = 0; a < a_count; ++a) {
+        const double dx = row[a] - mx[a];
+        m2x[a] += dx * dx;
+        cxy[a] += dx * dy;
+      }
+    }
+    for (std::size_t a = 0; a < a_count; ++a) {
+      tally.pairs[m * a_count + a] = PairMoments{n, mx[a], my, m2x[a], m2y, cxy[a]};
+    }
+  }
 }
 
 }  // namespace lotwise::detail

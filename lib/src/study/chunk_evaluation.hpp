@@ -40,6 +40,12 @@ class ChunkEvaluator {
   std::vector<double> lot_values_;
   std::uint64_t current_lot_ = ~std::uint64_t{0};
   std::vector<double> point_;
+  // Attribution: one row per evaluation of the chunk (varied parameters, measurements,
+  // passed), reduced to moments at the chunk's end.
+  std::vector<double> attribution_rows_;
+  mutable std::vector<double> moment_scratch_;
+  mutable std::vector<double> parameter_scratch_;
+  void attribution_moments(ChunkTally& tally, std::size_t a_count, std::size_t m_count) const;
 };
 
 }  // namespace lotwise::detail

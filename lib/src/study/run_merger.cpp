@@ -353,8 +353,9 @@ YieldResult RunMerger::result() const {
     const std::size_t stride = a_count + m_count;
     const std::size_t rows = regression_rows_.size() / stride;
     r.regression_rows = rows;
-    for (std::size_t m = 0; m < m_count; ++m) {
-      const RegressionSummary g = regress(regression_rows_.data(), rows, stride, a_count, a_count + m);
+    const std::vector<RegressionSummary> fits =
+        regress_all(regression_rows_.data(), rows, stride, a_count, m_count);
+    for (const RegressionSummary& g : fits) {
       r.standardized_regression.insert(r.standardized_regression.end(), g.standardized.begin(),
                                        g.standardized.end());
       r.rank_correlations.insert(r.rank_correlations.end(), g.rank_correlation.begin(),

@@ -96,3 +96,29 @@ TEST_CASE("regression figures are NaN without enough rows or spread", "[regressi
   CHECK(std::isnan(g.standardized[0]));
   CHECK(std::isnan(g.r_squared));
 }
+
+TEST_CASE("regression of several measurements at once equals one at a time", "[regression]") {
+  // Rows (x1, x2, y1, y2, y3): y1 linear, y2 with a NaN row (fitted alone), y3 constant.
+  std::vector<double> rows;
+  for (int i = 0; i < 300; ++i) {
+    const double x1 = std::sin(0.37 * i), x2 = std::cos(0.11 * i * i);
+    rows.insert(rows.end(), {x1, x2, 2.0 * x1 - x2 + 0.1 * std::sin(3.1 * i),
+                             i == 17 ? std::nan("") : x1 * x1 + x2, 4.0});
+  }
+  const auto all = detail::regress_all(rows.data(), 300, 5, 2, 3);
+  REQUIRE(all.size() == 3);
+  for (std::size_t k = 0; k < 3; ++k) {
+    const detail::RegressionSummary one = detail::regress(rows.data(), 300, 5, 2, 2 + k);
+    CHECK(all[k].rows == one.rows);
+    for (std::size_t j = 0; j < 2; ++j) {
+      if (std::isnan(one.standardized[j])) {
+        CHECK(std::isnan(all[k].standardized[j]));
+      } else {
+        CHECK_THAT(all[k].standardized[j], close_abs(one.standardized[j], 1e-12));
+        CHECK_THAT(all[k].rank_correlation[j], close_abs(one.rank_correlation[j], 1e-12));
+      }
+    }
+  }
+  CHECK(all[1].rows == 299);
+  CHECK(std::isnan(all[2].r_squared));
+}
