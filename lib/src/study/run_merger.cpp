@@ -2,8 +2,11 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <iterator>
 #include <limits>
+#include <new>
+#include <stdexcept>
 #include <string>
 #include <utility>
 
@@ -87,10 +90,24 @@ RunMerger::RunMerger(const Study::Impl& study, const RunOptions& options, const 
     batch_chunks_ = (trials + options.chunk_size - 1) / options.chunk_size;
   }
   if (options.keep_samples) {
-    const std::size_t rows = static_cast<std::size_t>(options.samples) * shape.evaluations;
-    values_.reserve(rows * shape.measurements);
-    parameters_.reserve(rows * shape.varied.size());
-    pass_.reserve(static_cast<std::size_t>(options.samples));
+    // Every row is kept: say how much that needs rather than fail deep in the run.
+    const double rows = static_cast<double>(options.samples) * static_cast<double>(shape.evaluations);
+    const double bytes = rows * 8.0 * static_cast<double>(shape.measurements + shape.varied.size()) +
+                         static_cast<double>(options.samples);
+    try {
+      if (bytes > 0.5 * static_cast<double>(std::numeric_limits<std::size_t>::max())) throw std::bad_alloc();
+      const auto n = static_cast<std::size_t>(rows);
+      values_.reserve(n * shape.measurements);
+      parameters_.reserve(n * shape.varied.size());
+      pass_.reserve(static_cast<std::size_t>(options.samples));
+    } catch (const std::exception&) {  // bad_alloc, or length_error beyond max_size
+      char need[32];
+      std::snprintf(need, sizeof need, "%.3g", bytes / 1e9);
+      throw RunError("keeping every sample of " + std::to_string(options.samples) +
+                     " builds needs about " + need +
+                     " GB of memory, more than is available: run without keeping samples, or "
+                     "with fewer samples");
+    }
   }
 }
 

@@ -131,3 +131,14 @@ TEST_CASE("measurements naming missing parts are refused", "[fast][errors]") {
                     Contains("'R1'") && Contains("not an independent"));
   CHECK_THROWS_AS(make_study(c, {measure("c", Kind::cmrr, {"VIN"}, {"out"})}), DesignError);
 }
+
+TEST_CASE("keeping the samples of a run too large for memory is refused up front",
+          "[fast][errors]") {
+  const Study s = make_study(non_inverting(1e3, 9e3, ideal_opamp()),
+                            {measure("gain", Kind::gain, {"VIN"}, {"out"})});
+  RunOptions o;
+  o.samples = std::uint64_t{1} << 60;
+  o.keep_samples = true;
+  CHECK_THROWS_WITH(s.run(o), Contains("keeping every sample of 1152921504606846976 builds needs about") &&
+                                  Contains("GB of memory"));
+}
