@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 #include <numeric>
+#include <utility>
 
 #include <Eigen/Dense>
 
@@ -48,111 +49,39 @@ std::vector<double> average_ranks(const std::vector<double>& values) {
   return ranks;
 }
 
-RegressionSummary regress(const double* data, std::size_t rows, std::size_t stride,
-                          std::size_t x_count, std::size_t y_column) {
+namespace {
+
+// The fit and ranks of measurement columns `y_columns` over `rows` rows whose parameter and
+// measurement values are all finite: one QR factorisation of the centred parameters and
+// one ranking of each parameter serve every measurement.
+std::vector<RegressionSummary> fit_complete(const double* data, std::size_t rows,
+                                            std::size_t stride, std::size_t x_count,
+                                            const std::vector<std::size_t>& y_columns) {
   const double nan = std::numeric_limits<double>::quiet_NaN();
-  RegressionSummary out;
-  out.standardized.assign(x_count, nan);
-  out.rank_correlation.assign(x_count, nan);
-  out.r_squared = nan;
-
-  std::vector<std::size_t> usable;
-  for (std::size_t i = 0; i < rows; ++i) {
-    const double* row = data + i * stride;
-    bool ok = std::isfinite(row[y_column]);
-    for (std::size_t j = 0; j < x_count && ok; ++j) ok = std::isfinite(row[j]);
-    if (ok) usable.push_back(i);
+  std::vector<RegressionSummary> out(y_columns.size());
+  for (RegressionSummary& r : out) {
+    r.standardized.assign(x_count, nan);
+    r.rank_correlation.assign(x_count, nan);
+    r.r_squared = nan;
+    r.rows = rows;
   }
-  const std::size_t n = usable.size();
-  out.rows = n;
-  if (n < x_count + 2) return out;
-
-  // Centred columns; parameters without spread are left out of the fit.
-  Eigen::VectorXd y(static_cast<Eigen::Index>(n));
-  for (std::size_t i = 0; i < n; ++i) y(static_cast<Eigen::Index>(i)) = data[usable[i] * stride + y_column];
-  y.array() -= y.mean();
-  const double syy = y.squaredNorm();
-  if (!(syy > 0.0)) return out;
-  std::vector<std::size_t> active;
-  std::vector<double> sd(x_count, 0.0);
-  Eigen::MatrixXd x(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(x_count));
-  for (std::size_t j = 0; j < x_count; ++j) {
-    for (std::size_t i = 0; i < n; ++i) {
-      x(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = data[usable[i] * stride + j];
-    }
-    auto column = x.col(static_cast<Eigen::Index>(j));
-    column.array() -= column.mean();
-    const double s = column.squaredNorm();
-    if (s > 0.0) {
-      active.push_back(j);
-      sd[j] = std::sqrt(s);  // common factor 1/sqrt(n - 1) cancels in the ratios below
-    }
-  }
-  if (!active.empty()) {
-    Eigen::MatrixXd a(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(active.size()));
-    for (std::size_t k = 0; k < active.size(); ++k) {
-      a.col(static_cast<Eigen::Index>(k)) = x.col(static_cast<Eigen::Index>(active[k]));
-    }
-    // Column-pivoting QR: stable when parameters are strongly correlated.
-    const Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(a);
-    if (qr.rank() == static_cast<Eigen::Index>(active.size())) {
-      const Eigen::VectorXd b = qr.solve(y);
-      const double sy = std::sqrt(syy);
-      for (std::size_t k = 0; k < active.size(); ++k) {
-        out.standardized[active[k]] = b(static_cast<Eigen::Index>(k)) * sd[active[k]] / sy;
-      }
-      const double residual = (y - a * b).squaredNorm();
-      out.r_squared = 1.0 - residual / syy;
-    }
-  }
-
-  // Spearman: Pearson correlation of the ranks.
-  std::vector<double> column(n);
-  for (std::size_t i = 0; i < n; ++i) column[i] = data[usable[i] * stride + y_column];
-  const std::vector<double> y_ranks = average_ranks(column);
-  for (std::size_t j = 0; j < x_count; ++j) {
-    if (!(sd[j] > 0.0)) continue;
-    for (std::size_t i = 0; i < n; ++i) column[i] = data[usable[i] * stride + j];
-    out.rank_correlation[j] = pearson(average_ranks(column), y_ranks);
-  }
-  return out;
-}
-
-std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
-                                           std::size_t stride, std::size_t x_count,
-                                           std::size_t y_count) {
-  const double nan = std::numeric_limits<double>::quiet_NaN();
-  std::vector<RegressionSummary> out(y_count);
-  // Rows with every parameter finite; a measurement column that is finite on all of them
-  // uses the shared factorisation and ranks.
-  bool parameters_finite = true;
-  for (std::size_t i = 0; i < rows && parameters_finite; ++i) {
-    for (std::size_t j = 0; j < x_count; ++j) parameters_finite = parameters_finite && std::isfinite(data[i * stride + j]);
-  }
-  std::vector<bool> shared(y_count, false);
-  for (std::size_t k = 0; k < y_count; ++k) {
-    bool all = parameters_finite && rows >= x_count + 2;
-    for (std::size_t i = 0; i < rows && all; ++i) all = std::isfinite(data[i * stride + x_count + k]);
-    shared[k] = all;
-    if (!all) out[k] = regress(data, rows, stride, x_count, x_count + k);
-  }
-  if (std::find(shared.begin(), shared.end(), true) == shared.end()) return out;
+  if (rows < x_count + 2) return out;
 
   const auto n = static_cast<Eigen::Index>(rows);
   Eigen::MatrixXd x(n, static_cast<Eigen::Index>(x_count));
-  std::vector<std::size_t> active;
+  std::vector<std::size_t> active;  // parameters with a spread; the others stay NaN
   std::vector<double> sd(x_count, 0.0);
   std::vector<std::vector<double>> x_ranks(x_count);
   std::vector<double> column(rows);
   for (std::size_t j = 0; j < x_count; ++j) {
     for (std::size_t i = 0; i < rows; ++i) column[i] = data[i * stride + j];
-    for (std::size_t i = 0; i < rows; ++i) x(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = column[i];
     auto c = x.col(static_cast<Eigen::Index>(j));
+    c = Eigen::Map<const Eigen::VectorXd>(column.data(), n);
     c.array() -= c.mean();
     const double s = c.squaredNorm();
     if (s > 0.0) {
       active.push_back(j);
-      sd[j] = std::sqrt(s);
+      sd[j] = std::sqrt(s);  // common factor 1/sqrt(n - 1) cancels in the ratios below
       x_ranks[j] = average_ranks(column);
     }
   }
@@ -160,21 +89,19 @@ std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
   for (std::size_t k = 0; k < active.size(); ++k) {
     a.col(static_cast<Eigen::Index>(k)) = x.col(static_cast<Eigen::Index>(active[k]));
   }
-  const Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(a);
-  const bool full_rank = qr.rank() == static_cast<Eigen::Index>(active.size());
-  for (std::size_t k = 0; k < y_count; ++k) {
-    if (!shared[k]) continue;
+  // Column-pivoting QR: stable when parameters are strongly correlated.
+  // (none to factor when no parameter has a spread).
+  Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr;
+  if (!active.empty()) qr.compute(a);
+  const bool full_rank = !active.empty() && qr.rank() == static_cast<Eigen::Index>(active.size());
+  for (std::size_t k = 0; k < y_columns.size(); ++k) {
     RegressionSummary& r = out[k];
-    r.standardized.assign(x_count, nan);
-    r.rank_correlation.assign(x_count, nan);
-    r.r_squared = nan;
-    r.rows = rows;
-    for (std::size_t i = 0; i < rows; ++i) column[i] = data[i * stride + x_count + k];
+    for (std::size_t i = 0; i < rows; ++i) column[i] = data[i * stride + y_columns[k]];
     Eigen::VectorXd y = Eigen::Map<const Eigen::VectorXd>(column.data(), n);
     y.array() -= y.mean();
     const double syy = y.squaredNorm();
     if (!(syy > 0.0)) continue;
-    if (full_rank && !active.empty()) {
+    if (full_rank) {
       const Eigen::VectorXd b = qr.solve(y);
       const double sy = std::sqrt(syy);
       for (std::size_t j = 0; j < active.size(); ++j) {
@@ -182,9 +109,56 @@ std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
       }
       r.r_squared = 1.0 - (y - a * b).squaredNorm() / syy;
     }
+    // Spearman: Pearson correlation of the ranks.
     const std::vector<double> y_ranks = average_ranks(column);
     for (std::size_t j : active) r.rank_correlation[j] = pearson(x_ranks[j], y_ranks);
   }
+  return out;
+}
+
+bool row_complete(const double* row, std::size_t x_count, std::size_t y_column) {
+  bool ok = std::isfinite(row[y_column]);
+  for (std::size_t j = 0; j < x_count && ok; ++j) ok = std::isfinite(row[j]);
+  return ok;
+}
+
+}  // namespace
+
+RegressionSummary regress(const double* data, std::size_t rows, std::size_t stride,
+                          std::size_t x_count, std::size_t y_column) {
+  // The complete rows, packed as (parameters, measurement).
+  std::vector<double> packed;
+  std::size_t n = 0;
+  for (std::size_t i = 0; i < rows; ++i) {
+    const double* row = data + i * stride;
+    if (!row_complete(row, x_count, y_column)) continue;
+    packed.insert(packed.end(), row, row + x_count);
+    packed.push_back(row[y_column]);
+    ++n;
+  }
+  return fit_complete(packed.data(), n, x_count + 1, x_count, {x_count})[0];
+}
+
+std::vector<RegressionSummary> regress_all(const double* data, std::size_t rows,
+                                           std::size_t stride, std::size_t x_count,
+                                           std::size_t y_count) {
+  // Measurements complete on every row share one fit; the others are fitted alone on
+  // their own complete rows.
+  std::vector<RegressionSummary> out(y_count);
+  std::vector<std::size_t> shared, slot;
+  for (std::size_t k = 0; k < y_count; ++k) {
+    bool all = true;
+    for (std::size_t i = 0; i < rows && all; ++i) all = row_complete(data + i * stride, x_count, x_count + k);
+    if (all) {
+      shared.push_back(x_count + k);
+      slot.push_back(k);
+    } else {
+      out[k] = regress(data, rows, stride, x_count, x_count + k);
+    }
+  }
+  if (shared.empty()) return out;
+  std::vector<RegressionSummary> fits = fit_complete(data, rows, stride, x_count, shared);
+  for (std::size_t i = 0; i < slot.size(); ++i) out[slot[i]] = std::move(fits[i]);
   return out;
 }
 

@@ -76,6 +76,10 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
     tally.parameters.reserve(rows * v_count);
     tally.pass.reserve(static_cast<std::size_t>(range.count));
   }
+  if (o.builds_per_lot > 0) {
+    // The lots this chunk's builds span; their moments are made as each lot begins.
+    tally.lots.reserve(static_cast<std::size_t>(range.count / o.builds_per_lot + 2));
+  }
   const std::uint64_t regression_end = std::min(range.first_sample + range.count, shape_.regression_samples);
   if (regression_end > range.first_sample) {
     tally.regression_rows.reserve(static_cast<std::size_t>(regression_end - range.first_sample) *

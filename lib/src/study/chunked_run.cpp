@@ -27,15 +27,13 @@ RunOptions portable(const RunOptions& options) {
 }  // namespace
 
 struct ChunkedRun::Impl {
-  const Study::Impl& study;
   RunOptions options;
   detail::RunShape shape;
   std::uint64_t fingerprint;
   detail::RunMerger merger;
 
   Impl(const Study::Impl& s, const RunOptions& o)
-      : study(s),
-        options(portable(o)),
+      : options(portable(o)),
         shape(s, options),
         fingerprint(detail::run_fingerprint(s, options, shape)),
         merger(s, options, shape) {}

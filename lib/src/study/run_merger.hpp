@@ -28,7 +28,6 @@ class RunMerger {
   std::uint64_t add(ChunkTally&& chunk);
 
   std::uint64_t merged() const { return merged_; }
-  std::uint64_t merged_samples() const { return total_.samples; }
   /// Every chunk merged, or an adaptive target met.
   bool finished() const { return merged_ == shape_.chunks || stopped_; }
   bool target_met() const { return stopped_; }
