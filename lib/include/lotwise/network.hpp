@@ -145,6 +145,7 @@ class Network {
   static constexpr std::size_t npos = static_cast<std::size_t>(-1);
 
   struct Layout;  ///< opaque: the compiled stamps (private to the library)
+  const Layout& layout() const { return *layout_; }
 
  private:
   std::unique_ptr<Layout> layout_;

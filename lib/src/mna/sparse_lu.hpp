@@ -15,6 +15,8 @@
 #include <utility>
 #include <vector>
 
+#include "mna/lane_ops.hpp"
+
 namespace lotwise::detail {
 
 /// |x|^2 without a square root (complex) and |x|^2 for real x.
@@ -124,11 +126,14 @@ class PatternLU {
         if (s[i * n + j]) slot_of_[i * n + j] = next++;
       }
     }
-    std::vector<std::size_t> step_of_row(n), step_of_col(n);
+    step_of_row_.assign(n, 0);
+    step_of_col_.assign(n, 0);
     for (std::size_t k = 0; k < n; ++k) {
-      step_of_row[row_of_step_[k]] = k;
-      step_of_col[col_of_step_[k]] = k;
+      step_of_row_[row_of_step_[k]] = k;
+      step_of_col_[col_of_step_[k]] = k;
     }
+    const auto& step_of_row = step_of_row_;
+    const auto& step_of_col = step_of_col_;
     pivot_.resize(n);
     lower_begin_.assign(n + 1, 0);
     upper_begin_.assign(n + 1, 0);
@@ -223,6 +228,81 @@ class PatternLU {
     return PatternStatus::ok;
   }
 
+  /// As factor(), for L matrices of this pattern side by side: `v` holds nonzeros() x L
+  /// values (slot-major, the L lanes of a slot adjacent), `inverse` receives size() x L
+  /// inverse pivots. Each lane does exactly the arithmetic of factor(), in the same order,
+  /// so its results are bit-identical; a lane whose pivot check fails gets ok[lane] = 0
+  /// (its values are then spoiled) while the others go on. Allocates nothing.
+  template <std::size_t L>
+  void factor_lanes(T* v, T* inverse, const double* tiny, unsigned char* ok) const {
+    const double u2 = pivot_check_threshold * pivot_check_threshold;
+    constexpr double inf = std::numeric_limits<double>::infinity();
+    for (std::size_t k = 0; k < n_; ++k) {
+      const T* p = v + static_cast<std::size_t>(pivot_[k]) * L;
+      double col2[L];
+      for (std::size_t l = 0; l < L; ++l) col2[l] = 0.0;
+      const Index lb = lower_begin_[k], le = lower_begin_[k + 1];
+      for (Index t = lb; t < le; ++t) {
+        const T* c = v + static_cast<std::size_t>(lower_slot_[t]) * L;
+        for (std::size_t l = 0; l < L; ++l) col2[l] = std::max(col2[l], magnitude2(c[l]));
+      }
+      T* inv = inverse + k * L;
+      for (std::size_t l = 0; l < L; ++l) {
+        const double p2 = magnitude2(p[l]);
+        const bool good = p2 > tiny[l] * tiny[l] && p2 >= u2 * col2[l] && p2 < inf;
+        ok[l] = static_cast<unsigned char>(ok[l] & static_cast<unsigned char>(good));
+        inv[l] = T(1) / p[l];
+      }
+      const Index ub = upper_begin_[k];
+      const Index width = upper_begin_[k + 1] - ub;
+      const Index* target = update_.data() + update_begin_[k];
+      for (Index t = lb; t < le; ++t) {
+        T* lower = v + static_cast<std::size_t>(lower_slot_[t]) * L;
+        lanes_scale<L>(lower, inv);
+        for (Index q = 0; q < width; ++q) {
+          lanes_sub_product<L>(v + static_cast<std::size_t>(target[q]) * L, lower,
+                               v + static_cast<std::size_t>(upper_slot_[ub + q]) * L);
+        }
+        target += width;
+      }
+    }
+  }
+
+  /// Elimination step of original row r (its right-hand side's place in solve_lanes)
+  /// and of unknown c (its solution's place).
+  std::size_t step_of_row(std::size_t r) const { return step_of_row_[r]; }
+  std::size_t step_of_col(std::size_t c) const { return step_of_col_[c]; }
+
+  /// As solve_block() for L factorisations side by side (from factor_lanes), in place:
+  /// `y` holds `count` right-hand sides in step order, [step][column][lane] (row r of
+  /// column c at (step_of_row(r) * count + c) * L), and receives the solutions in the
+  /// same order (unknown i of column c at (step_of_col(i) * count + c) * L). The same
+  /// arithmetic per lane as solve_block().
+  template <std::size_t L>
+  void solve_lanes(const T* v, const T* inverse, T* y, std::size_t count) const {
+    const std::size_t w = count * L;  // one step's values: count columns of L lanes
+    for (std::size_t k = 0; k < n_; ++k) {
+      const T* yk = y + k * w;
+      const Index le = lower_begin_[k + 1];
+      for (Index t = lower_begin_[k]; t < le; ++t) {
+        const T* f = v + static_cast<std::size_t>(lower_slot_[t]) * L;
+        T* ym = y + lower_step_[t] * w;
+        for (std::size_t c = 0; c < count; ++c) lanes_sub_product<L>(ym + c * L, f, yk + c * L);
+      }
+    }
+    for (std::size_t k = n_; k-- > 0;) {
+      T* yk = y + k * w;
+      const Index ue = upper_begin_[k + 1];
+      for (Index t = upper_begin_[k]; t < ue; ++t) {
+        const T* f = v + static_cast<std::size_t>(upper_slot_[t]) * L;
+        const T* ym = y + upper_step_[t] * w;
+        for (std::size_t c = 0; c < count; ++c) lanes_sub_product<L>(yk + c * L, f, ym + c * L);
+      }
+      const T* inv = inverse + k * L;
+      for (std::size_t c = 0; c < count; ++c) lanes_scale<L>(yk + c * L, inv);
+    }
+  }
+
   /// Room for solving `columns` right-hand sides at once (solve_block); allocates.
   void reserve_columns(std::size_t columns) {
     if (y_.size() < n_ * columns) y_.assign(n_ * columns, T(0));
@@ -305,6 +385,7 @@ class PatternLU {
   bool ready_ = false;
   std::size_t n_ = 0;
   std::vector<std::size_t> row_of_step_, col_of_step_;
+  std::vector<std::size_t> step_of_row_, step_of_col_;
   std::vector<Index> slot_of_;  ///< n x n, row-major
   std::vector<Index> pivot_;
   std::vector<Index> lower_begin_, lower_slot_, lower_step_;

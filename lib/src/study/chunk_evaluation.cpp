@@ -13,14 +13,19 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
     : study_(study),
       options_(options),
       shape_(shape),
-      evaluator_(study.network, study.plan),
+      evaluator_(study.network, study.plan, &shape.varied),
       points_(study.model, options.sampler, options.chunk_size, directions),
-      build_(study.model.make_scratch()),
-      theta_(study.nominal_parameters),
-      values_(shape.measurements),
+      builds_(Evaluator::lanes, study.model.make_scratch()),
+      values_(Evaluator::lanes * shape.evaluations * shape.measurements),
+      status_(Evaluator::lanes * shape.evaluations),
+      withheld_(Evaluator::lanes * shape.evaluations * shape.measurements),
+      any_saturated_(Evaluator::lanes * shape.evaluations),
       spec_ok_(shape.specs),
       spec_saturated_(shape.specs),
       point_(study.model.dimension()) {
+  for (std::size_t r = 0; r < Evaluator::lanes * shape.evaluations; ++r) {
+    theta_.insert(theta_.end(), study.nominal_parameters.begin(), study.nominal_parameters.end());
+  }
   if (shape.attribution) {
     const std::size_t a = shape.varied.size();
     attribution_rows_.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations *
@@ -87,124 +92,154 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   }
 
   attribution_rows_.clear();
-  double* theta = theta_.data();
-  double* values = values_.data();
+  constexpr std::size_t lanes = Evaluator::lanes;
+  const std::size_t p_count = s.nominal_parameters.size();
+  const double* thetas[lanes];
+  double* value_rows[lanes];
+  SolveStatus statuses[lanes];
   points_.start(o.seed, k, range.replicate, range.begin, static_cast<std::size_t>(range.count));
-  for (std::uint64_t t = 0; t < range.count; ++t) {
-    const std::uint64_t i = range.first_sample + t;
-    const double* point = points_.next();
-    if (!lot_coordinates_.empty()) {
-      // The lot's deviations come from a stream keyed by (seed, lot, coordinate) alone, so
-      // every build of the lot sees the same ones whichever chunk it falls in.
-      const std::uint64_t lot = i / o.builds_per_lot;
-      if (lot != current_lot_) {
-        current_lot_ = lot;
-        for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) {
-          const std::size_t c = lot_coordinates_[j];
-          const double u = to_unit(mix(mix(mix(o.seed) ^ lot) ^ c));
-          lot_values_[j] = s.model.coordinates()[c].normal
-                               ? boost::math::quantile(boost::math::normal_distribution<double>(), u)
-                               : u;
+  for (std::uint64_t t0 = 0; t0 < range.count; t0 += lanes) {
+    const auto block = static_cast<std::size_t>(std::min<std::uint64_t>(lanes, range.count - t0));
+    // Draw the block's builds in order: the same points as one build at a time.
+    for (std::size_t b = 0; b < block; ++b) {
+      const std::uint64_t i = range.first_sample + t0 + b;
+      const double* point = points_.next();
+      if (!lot_coordinates_.empty()) {
+        // The lot's deviations come from a stream keyed by (seed, lot, coordinate) alone, so
+        // every build of the lot sees the same ones whichever chunk it falls in.
+        const std::uint64_t lot = i / o.builds_per_lot;
+        if (lot != current_lot_) {
+          current_lot_ = lot;
+          for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) {
+            const std::size_t c = lot_coordinates_[j];
+            const double u = to_unit(mix(mix(mix(o.seed) ^ lot) ^ c));
+            lot_values_[j] = s.model.coordinates()[c].normal
+                                 ? boost::math::quantile(boost::math::normal_distribution<double>(), u)
+                                 : u;
+          }
         }
+        std::copy(point, point + point_.size(), point_.begin());
+        for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) point_[lot_coordinates_[j]] = lot_values_[j];
+        point = point_.data();
       }
-      std::copy(point, point + point_.size(), point_.begin());
-      for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) point_[lot_coordinates_[j]] = lot_values_[j];
-      point = point_.data();
+      s.model.prepare(point, builds_[b]);
     }
-    s.model.prepare(point, build_);
-    LotStats* lot_stats = nullptr;
-    if (o.builds_per_lot > 0) {
-      const std::uint64_t lot = i / o.builds_per_lot;
-      if (tally.lots.empty() || tally.lots.back().lot != lot) {
-        tally.lots.push_back(LotStats{lot, std::vector<RunningStats>(m_count)});
-      }
-      lot_stats = &tally.lots.back();
-    }
-    std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{1});
-    std::fill(spec_saturated_.begin(), spec_saturated_.end(), std::uint8_t{0});
-    bool saturated = false;  // at some evaluation of this build
-    bool pass = true;
-    SolveStatus failure = SolveStatus::ok;  // the build's first unevaluated state
+    // Evaluate each operating temperature of the block's builds side by side.
     for (std::size_t q = 0; q < evaluations; ++q) {
-      s.model.apply(build_, s.model.temperature_of(build_, q), theta);
-      const SolveStatus status = evaluator_.evaluate(theta, values);
-      Tally* here = sweep ? &tally.temperatures[q] : nullptr;
-      bool ok_here = status == SolveStatus::ok;
-      if (status == SolveStatus::ok) {
-        // Values withheld because an op-amp saturated stay out of the statistics; their
-        // specs fail, counted as failures for saturation.
-        const std::vector<unsigned char>& withheld = evaluator_.saturated();
-        if (evaluator_.any_saturated()) {
-          saturated = true;
-          if (here) ++here->saturated;
+      for (std::size_t b = 0; b < block; ++b) {
+        const std::size_t row = b * evaluations + q;
+        double* theta = &theta_[row * p_count];
+        s.model.apply(builds_[b], s.model.temperature_of(builds_[b], q), theta);
+        thetas[b] = theta;
+        value_rows[b] = &values_[row * m_count];
+      }
+      evaluator_.evaluate_lanes(thetas, value_rows, statuses, block);
+      for (std::size_t b = 0; b < block; ++b) {
+        const std::size_t row = b * evaluations + q;
+        status_[row] = statuses[b];
+        std::copy(evaluator_.saturated_lane(b), evaluator_.saturated_lane(b) + m_count,
+                  withheld_.begin() + static_cast<std::ptrdiff_t>(row * m_count));
+        any_saturated_[row] = evaluator_.saturated_opamp_lane(b) != Network::npos;
+      }
+    }
+    // Tally in build order, exactly as one build at a time.
+    for (std::size_t b = 0; b < block; ++b) {
+      const std::uint64_t i = range.first_sample + t0 + b;
+      LotStats* lot_stats = nullptr;
+      if (o.builds_per_lot > 0) {
+        const std::uint64_t lot = i / o.builds_per_lot;
+        if (tally.lots.empty() || tally.lots.back().lot != lot) {
+          tally.lots.push_back(LotStats{lot, std::vector<RunningStats>(m_count)});
         }
-        for (std::size_t m = 0; m < m_count; ++m) {
-          if (withheld[m]) {
-            ++tally.builds.measurement_saturated[m];
-            if (here) ++here->measurement_saturated[m];
+        lot_stats = &tally.lots.back();
+      }
+      std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{1});
+      std::fill(spec_saturated_.begin(), spec_saturated_.end(), std::uint8_t{0});
+      bool saturated = false;  // at some evaluation of this build
+      bool pass = true;
+      SolveStatus failure = SolveStatus::ok;  // the build's first unevaluated state
+      for (std::size_t q = 0; q < evaluations; ++q) {
+        const std::size_t row = b * evaluations + q;
+        const double* theta = &theta_[row * p_count];
+        const double* values = &values_[row * m_count];
+        const unsigned char* withheld = &withheld_[row * m_count];
+        const SolveStatus status = status_[row];
+        Tally* here = sweep ? &tally.temperatures[q] : nullptr;
+        bool ok_here = status == SolveStatus::ok;
+        if (status == SolveStatus::ok) {
+          // Values withheld because an op-amp saturated stay out of the statistics; their
+          // specs fail, counted as failures for saturation.
+          if (any_saturated_[row]) {
+            saturated = true;
+            if (here) ++here->saturated;
+          }
+          for (std::size_t m = 0; m < m_count; ++m) {
+            if (withheld[m]) {
+              ++tally.builds.measurement_saturated[m];
+              if (here) ++here->measurement_saturated[m];
+              if (pilot) tally.pilot.push_back(values[m]);
+              continue;
+            }
+            tally.builds.stats[m].add(values[m]);
+            if (here) here->stats[m].add(values[m]);
+            if (lot_stats) lot_stats->stats[m].add(values[m]);
+            if (!tally.histograms.empty()) tally.histograms[m].add(values[m]);
             if (pilot) tally.pilot.push_back(values[m]);
-            continue;
           }
-          tally.builds.stats[m].add(values[m]);
-          if (here) here->stats[m].add(values[m]);
-          if (lot_stats) lot_stats->stats[m].add(values[m]);
-          if (!tally.histograms.empty()) tally.histograms[m].add(values[m]);
-          if (pilot) tally.pilot.push_back(values[m]);
+          for (std::size_t j = 0; j < spec_count; ++j) {
+            const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
+            spec_ok_[j] = spec_ok_[j] && ok;
+            if (withheld[s.spec_measurement[j]]) {
+              spec_saturated_[j] = 1;
+              if (here) ++here->spec_saturated[j];
+            }
+            if (here) here->spec_passed[j] += ok;
+            ok_here = ok_here && ok;
+          }
+        } else {
+          std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{0});
+          if (failure == SolveStatus::ok) failure = status;
+          if (here) ++(status == SolveStatus::singular ? here->singular : here->invalid);
         }
+        if (here) {
+          ++here->samples;
+          here->passed += ok_here;
+        }
+        pass = pass && ok_here;
+        if (a_count > 0) {
+          // One row per evaluation; the chunk's attribution moments come from the rows at
+          // its end. A value that did not enter the statistics enters no co-moment (NaN).
+          for (std::size_t a = 0; a < a_count; ++a) attribution_rows_.push_back(theta[varied[a]]);
+          for (std::size_t m = 0; m < m_count; ++m) {
+            const bool entered = status == SolveStatus::ok && !withheld[m];
+            attribution_rows_.push_back(entered ? values[m] : std::numeric_limits<double>::quiet_NaN());
+          }
+          attribution_rows_.push_back(ok_here ? 1.0 : 0.0);
+        }
+        if (o.keep_samples) {
+          tally.values.insert(tally.values.end(), values, values + m_count);
+          for (std::size_t a = 0; a < v_count; ++a) tally.parameters.push_back(theta[varied[a]]);
+        }
+        if (i < regression_end) {
+          for (std::size_t a = 0; a < v_count; ++a) tally.regression_rows.push_back(theta[varied[a]]);
+          tally.regression_rows.insert(tally.regression_rows.end(), values, values + m_count);
+        }
+      }
+      ++tally.builds.samples;
+      for (std::size_t j = 0; j < spec_count; ++j) tally.builds.spec_passed[j] += spec_ok_[j];
+      if (failure == SolveStatus::singular) {
+        ++tally.builds.singular;
+      } else if (failure != SolveStatus::ok) {
+        ++tally.builds.invalid;
+      } else if (saturated) {
+        ++tally.builds.saturated;
         for (std::size_t j = 0; j < spec_count; ++j) {
-          const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
-          spec_ok_[j] = spec_ok_[j] && ok;
-          if (withheld[s.spec_measurement[j]]) {
-            spec_saturated_[j] = 1;
-            if (here) ++here->spec_saturated[j];
-          }
-          if (here) here->spec_passed[j] += ok;
-          ok_here = ok_here && ok;
+          tally.builds.spec_saturated[j] += spec_saturated_[j] && !spec_ok_[j];
         }
-      } else {
-        std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{0});
-        if (failure == SolveStatus::ok) failure = status;
-        if (here) ++(status == SolveStatus::singular ? here->singular : here->invalid);
       }
-      if (here) {
-        ++here->samples;
-        here->passed += ok_here;
-      }
-      pass = pass && ok_here;
-      if (a_count > 0) {
-        // One row per evaluation; the chunk's attribution moments come from the rows at
-        // its end. A value that did not enter the statistics enters no co-moment (NaN).
-        for (std::size_t a = 0; a < a_count; ++a) attribution_rows_.push_back(theta[varied[a]]);
-        const std::vector<unsigned char>& withheld = evaluator_.saturated();
-        for (std::size_t m = 0; m < m_count; ++m) {
-          const bool entered = status == SolveStatus::ok && !withheld[m];
-          attribution_rows_.push_back(entered ? values[m] : std::numeric_limits<double>::quiet_NaN());
-        }
-        attribution_rows_.push_back(ok_here ? 1.0 : 0.0);
-      }
-      if (o.keep_samples) {
-        tally.values.insert(tally.values.end(), values, values + m_count);
-        for (std::size_t a = 0; a < v_count; ++a) tally.parameters.push_back(theta[varied[a]]);
-      }
-      if (i < regression_end) {
-        for (std::size_t a = 0; a < v_count; ++a) tally.regression_rows.push_back(theta[varied[a]]);
-        tally.regression_rows.insert(tally.regression_rows.end(), values, values + m_count);
-      }
+      tally.builds.passed += pass;
+      if (o.keep_samples) tally.pass.push_back(pass);
     }
-    ++tally.builds.samples;
-    for (std::size_t j = 0; j < spec_count; ++j) tally.builds.spec_passed[j] += spec_ok_[j];
-    if (failure == SolveStatus::singular) {
-      ++tally.builds.singular;
-    } else if (failure != SolveStatus::ok) {
-      ++tally.builds.invalid;
-    } else if (saturated) {
-      ++tally.builds.saturated;
-      for (std::size_t j = 0; j < spec_count; ++j) {
-        tally.builds.spec_saturated[j] += spec_saturated_[j] && !spec_ok_[j];
-      }
-    }
-    tally.builds.passed += pass;
-    if (o.keep_samples) tally.pass.push_back(pass);
   }
   if (a_count > 0) attribution_moments(tally, a_count, m_count);
   return tally;

@@ -29,9 +29,15 @@ class ChunkEvaluator {
   const RunShape& shape_;
   Evaluator evaluator_;
   PointStream points_;
-  BuildScratch build_;
+  // A block of up to Evaluator::lanes builds is drawn, then evaluated side by side, then
+  // tallied in build order. Per (build, evaluation) of the block: parameters, values,
+  // status and saturation flags.
+  std::vector<BuildScratch> builds_;
   std::vector<double> theta_;
   std::vector<double> values_;
+  std::vector<SolveStatus> status_;
+  std::vector<unsigned char> withheld_;
+  std::vector<unsigned char> any_saturated_;
   std::vector<std::uint8_t> spec_ok_;
   std::vector<std::uint8_t> spec_saturated_;
   // Builds per lot: the lot coordinates, the current lot's values of them, and the point

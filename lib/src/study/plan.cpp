@@ -505,12 +505,16 @@ Plan make_plan(const Network& network, const std::vector<Measurement>& measureme
   return plan;
 }
 
-Evaluator::Evaluator(const Network& network, const Plan& plan)
+Evaluator::Evaluator(const Network& network, const Plan& plan,
+                     const std::vector<std::size_t>* changing)
     : network_(network),
       plan_(plan),
       workspace_(network.make_workspace(plan.slots)),
       probe_values_(plan.probes.size()),
-      saturated_(plan.measurements.size(), 0) {
+      saturated_(plan.measurements.size(), 0),
+      lane_probes_(plan.probes.size() * lanes),
+      lane_saturated_(plan.measurements.size() * lanes, 0),
+      lane_saturated_opamp_(lanes, Network::npos) {
   // One pivot order per kind of matrix, chosen at nominal values and reused by every
   // sample (the dense factorisation remains the fallback).
   std::vector<double> nominal;
@@ -522,6 +526,78 @@ Evaluator::Evaluator(const Network& network, const Plan& plan)
     } else if (!ac) {
       ac = network.prepare_ac(nominal.data(), analysis.frequency, workspace_);
     }
+  }
+  std::vector<std::size_t> all;
+  if (!changing) {
+    for (std::size_t p = 0; p < nominal.size(); ++p) all.push_back(p);
+    changing = &all;
+  }
+  auto solver = std::make_unique<LaneSolver>(network, nominal, *changing);
+  for (const Analysis& analysis : plan.analyses) {
+    solver->add_analysis(workspace_, analysis.frequency, analysis.held, analysis.excitations);
+  }
+  if (solver->usable()) lane_solver_ = std::move(solver);
+}
+
+void Evaluator::keep_lane(std::size_t l) {
+  std::copy(saturated_.begin(), saturated_.end(),
+            lane_saturated_.begin() + static_cast<std::ptrdiff_t>(l * saturated_.size()));
+  lane_saturated_opamp_[l] = saturated_opamp_;
+}
+
+void Evaluator::evaluate_lanes(const double* const* thetas, double* const* values,
+                               SolveStatus* statuses, std::size_t count) {
+  if (!lane_solver_) {
+    for (std::size_t l = 0; l < count; ++l) {
+      statuses[l] = evaluate(thetas[l], values[l]);
+      keep_lane(l);
+    }
+    return;
+  }
+  LaneSolver& solver = *lane_solver_;
+  solver.load(thetas, count);
+  unsigned char ok[lanes];
+  solver.check(ok);
+  for (std::size_t a = 0; a < plan_.analyses.size(); ++a) {
+    solver.solve(a, ok);
+    const bool dc = plan_.analyses[a].frequency == 0.0;
+    for (std::size_t p = 0; p < plan_.probes.size(); ++p) {
+      const Probe& probe = plan_.probes[p];
+      if (probe.analysis != a) continue;
+      std::complex<double>* out = &lane_probes_[p * lanes];
+      // As evaluate(): 0, plus V(plus), minus V(minus), in that order.
+      for (std::size_t l = 0; l < lanes; ++l) out[l] = 0.0;
+      if (dc) {
+        if (probe.plus != Network::npos) {
+          const double* x = solver.dc(a, probe.excitation, probe.plus);
+          for (std::size_t l = 0; l < lanes; ++l) out[l] += x[l];
+        }
+        if (probe.minus != Network::npos) {
+          const double* x = solver.dc(a, probe.excitation, probe.minus);
+          for (std::size_t l = 0; l < lanes; ++l) out[l] -= x[l];
+        }
+      } else {
+        if (probe.plus != Network::npos) {
+          const std::complex<double>* x = solver.ac(a, probe.excitation, probe.plus);
+          for (std::size_t l = 0; l < lanes; ++l) out[l] += x[l];
+        }
+        if (probe.minus != Network::npos) {
+          const std::complex<double>* x = solver.ac(a, probe.excitation, probe.minus);
+          for (std::size_t l = 0; l < lanes; ++l) out[l] -= x[l];
+        }
+      }
+    }
+  }
+  for (std::size_t l = 0; l < count; ++l) {
+    if (ok[l]) {
+      for (std::size_t p = 0; p < probe_values_.size(); ++p) probe_values_[p] = lane_probes_[p * lanes + l];
+      statuses[l] = finish(thetas[l], values[l]);
+    } else {
+      // Out of range, or a pivot poor for this vector: the one-at-a-time path decides
+      // (and falls back to the dense factorisation).
+      statuses[l] = evaluate(thetas[l], values[l]);
+    }
+    keep_lane(l);
   }
 }
 
@@ -561,6 +637,10 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
       probe_values_[p] = v;
     }
   }
+  return finish(theta, values);
+}
+
+SolveStatus Evaluator::finish(const double* theta, double* values) {
   // An op-amp beyond its limits at the operating point: the linear model no longer
   // describes the circuit, so every linear measurement is withheld.
   std::fill(saturated_.begin(), saturated_.end(), static_cast<unsigned char>(0));

@@ -2,10 +2,12 @@
 // Private: how a study's measurements are computed from a few solves per sample.
 #include <complex>
 #include <cstddef>
+#include <memory>
 #include <vector>
 
 #include "lotwise/design.hpp"
 #include "lotwise/network.hpp"
+#include "mna/lane_solver.hpp"
 
 namespace lotwise::detail {
 
@@ -100,10 +102,27 @@ Plan make_plan(const Network& network, const std::vector<Measurement>& measureme
 /// Evaluates a plan for one parameter vector. Owns its scratch space; one per thread.
 class Evaluator {
  public:
-  Evaluator(const Network& network, const Plan& plan);
+  /// `changing`: the parameters that may differ from nominal between evaluations (all
+  /// when null); evaluate_lanes checks only those per vector.
+  Evaluator(const Network& network, const Plan& plan,
+            const std::vector<std::size_t>* changing = nullptr);
   /// Writes one value per measurement into `values`. Allocates nothing. A measurement
   /// withheld because an op-amp it relies on saturated gets NaN and its saturated() flag.
   SolveStatus evaluate(const double* theta, double* values);
+
+  /// Parameter vectors evaluate_lanes takes at once.
+  static constexpr std::size_t lanes = solve_lanes;
+  /// As evaluate() for `count` (1..lanes) vectors: thetas[l] -> values[l], statuses[l],
+  /// with bit-identical results. The vectors are factored and solved side by side on the
+  /// reused patterns; a vector whose pivots are poor (or whose values are out of range)
+  /// is evaluated alone. Allocates nothing.
+  void evaluate_lanes(const double* const* thetas, double* const* values, SolveStatus* statuses,
+                      std::size_t count);
+  /// After evaluate_lanes: lane l's saturated() flags and saturated_opamp().
+  const unsigned char* saturated_lane(std::size_t l) const {
+    return lane_saturated_.data() + l * plan_.measurements.size();
+  }
+  std::size_t saturated_opamp_lane(std::size_t l) const { return lane_saturated_opamp_[l]; }
   /// Per measurement, after evaluate(): 1 where the value was withheld for saturation.
   const std::vector<unsigned char>& saturated() const { return saturated_; }
   bool any_saturated() const { return saturated_opamp_ != Network::npos; }
@@ -111,6 +130,10 @@ class Evaluator {
   std::size_t saturated_opamp() const { return saturated_opamp_; }
 
  private:
+  /// The measurements from probe_values_ (filled by the solves for `theta`).
+  SolveStatus finish(const double* theta, double* values);
+  /// Keeps the saturation flags of the last evaluation as lane l's.
+  void keep_lane(std::size_t l);
   double bandwidth(const CompiledMeasurement& m, const double* theta, double dc_gain,
                    SolveStatus& status);
   double trip_point(const CompiledMeasurement& m, const double* theta, std::size_t index);
@@ -125,6 +148,10 @@ class Evaluator {
   std::vector<std::complex<double>> probe_values_;
   std::vector<unsigned char> saturated_;
   std::size_t saturated_opamp_ = Network::npos;
+  std::unique_ptr<LaneSolver> lane_solver_;  ///< null when the lanes cannot be used
+  std::vector<std::complex<double>> lane_probes_;  ///< probes x lanes
+  std::vector<unsigned char> lane_saturated_;      ///< lanes x measurements
+  std::vector<std::size_t> lane_saturated_opamp_;
 };
 
 }  // namespace lotwise::detail

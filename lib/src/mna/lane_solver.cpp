@@ -1,0 +1,276 @@
+#include "mna/lane_solver.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <type_traits>
+
+#include "lotwise/error.hpp"
+#include "mna/lane_ops.hpp"
+
+namespace lotwise::detail {
+
+namespace {
+
+constexpr std::size_t npos = Network::npos;
+
+bool contains(const std::vector<std::size_t>& sorted, std::size_t p) {
+  return p != npos && std::binary_search(sorted.begin(), sorted.end(), p);
+}
+
+}  // namespace
+
+LaneSolver::LaneSolver(const Network& network, const std::vector<double>& nominal,
+                       const std::vector<std::size_t>& changing)
+    : layout_(network.layout()), changing_(changing), scale_(L) {
+  const auto& params = layout_.circuit.parameters();
+  if (nominal.size() != params.size()) throw Error("internal: LaneSolver needs every nominal value");
+  std::sort(changing_.begin(), changing_.end());
+  changing_.erase(std::unique(changing_.begin(), changing_.end()), changing_.end());
+  for (const std::size_t p : changing_) {
+    if (p >= params.size()) throw Error("internal: LaneSolver given an unknown parameter");
+    positive_.push_back(params[p].positive ? 1 : 0);
+  }
+  theta_.resize(params.size() * L);
+  for (std::size_t p = 0; p < params.size(); ++p) {
+    std::fill(theta_.begin() + static_cast<std::ptrdiff_t>(p * L),
+              theta_.begin() + static_cast<std::ptrdiff_t>((p + 1) * L), nominal[p]);
+  }
+  // The values that never change are checked once; only the op-amps whose limits can
+  // move are checked per lane.
+  usable_ = network.check_values(nominal.data()) == SolveStatus::ok;
+  for (const auto& o : layout_.opamps) {
+    if (contains(changing_, o.high) || contains(changing_, o.headroom_high) ||
+        contains(changing_, o.low) || contains(changing_, o.headroom_low)) {
+      limits_.push_back(Limits{o.high, o.headroom_high, o.low, o.headroom_low});
+    }
+  }
+}
+
+template <typename T>
+void LaneSolver::compile_rhs(LaneAnalysis<T>& lanes, const std::vector<Excitation>& excitations,
+                             const unsigned char* held_row) const {
+  // The operations of Network's fill_rhs, in its order, with every choice made here.
+  const std::size_t count = excitations.size();
+  const auto& lu = lanes.pattern->lu;
+  for (std::size_t e = 0; e < count; ++e) {
+    const Excitation& ex = excitations[e];
+    auto at = [&](std::size_t row) {
+      return static_cast<std::uint32_t>((lu.step_of_row(row) * count + e) * L);
+    };
+    for (const auto& s : layout_.sources) {
+      bool constant = !ex.sources_at_value;
+      double value = 0.0;
+      for (const auto& o : ex.overrides) {
+        if (o.first == s.element) {
+          constant = true;
+          value = o.second;
+        }
+      }
+      if (constant) {
+        lanes.rhs.push_back(RhsOp{RhsOp::add_constant, at(s.row), 0,
+                                  s.sign * value});
+      } else {
+        lanes.rhs.push_back(RhsOp{RhsOp::add_parameter, at(s.row),
+                                  static_cast<std::uint32_t>(s.p), s.sign});
+      }
+    }
+    if (ex.opamp_errors) {
+      for (const auto& s : layout_.errors) {
+        if (held_row && held_row[s.row]) continue;
+        lanes.rhs.push_back(RhsOp{RhsOp::add_parameter, at(s.row),
+                                  static_cast<std::uint32_t>(s.p), s.sign});
+      }
+    }
+    if (held_row) {
+      for (const auto& level : ex.output_levels) {
+        const std::size_t i = level.first < layout_.opamp_of_element.size()
+                                  ? layout_.opamp_of_element[level.first]
+                                  : npos;
+        if (i == npos || !held_row[layout_.opamps[i].branch]) continue;
+        lanes.rhs.push_back(RhsOp{RhsOp::set_constant, at(layout_.opamps[i].branch), 0,
+                                  level.second});
+      }
+    }
+  }
+}
+
+void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
+                              const std::vector<std::size_t>& held,
+                              const std::vector<Excitation>& excitations) {
+  auto& d = ws.data();
+  const std::size_t n = layout_.size;
+  auto shape = [&](auto& lanes) {
+    const auto& lu = lanes.pattern->lu;
+    lanes.frequency = frequency;
+    lanes.excitations = excitations.size();
+    lanes.values.resize(lu.nonzeros() * L);
+    lanes.inverse.resize(n * L);
+    lanes.reciprocal.resize(lanes.pattern->fill.inverse.size() * L);
+    lanes.y.assign(excitations.size() * n * L, typename std::decay_t<decltype(lanes.y)>::value_type(0));
+  };
+  if (frequency == 0.0) {
+    const detail::Pattern<double>* found = nullptr;
+    for (const auto& p : d.dc_patterns) {
+      if (p.held == held) found = &p;
+    }
+    if (!found || !found->lu.ready()) {
+      usable_ = false;
+      return;
+    }
+    std::vector<unsigned char> held_row(n, 0);
+    for (const std::size_t e : held) held_row[layout_.opamps[layout_.opamp_of_element[e]].branch] = 1;
+    LaneAnalysis<double> lanes;
+    lanes.pattern = found;
+    shape(lanes);
+    compile_rhs(lanes, excitations, held_row.data());
+    analyses_.emplace_back(false, dc_.size());
+    dc_.push_back(std::move(lanes));
+  } else {
+    if (d.ac_patterns.empty() || !d.ac_patterns[0].lu.ready()) {
+      usable_ = false;
+      return;
+    }
+    LaneAnalysis<std::complex<double>> lanes;
+    lanes.pattern = &d.ac_patterns[0];
+    shape(lanes);
+    compile_rhs(lanes, excitations, nullptr);
+    analyses_.emplace_back(true, ac_.size());
+    ac_.push_back(std::move(lanes));
+  }
+}
+
+void LaneSolver::load(const double* const* thetas, std::size_t count) {
+  for (const std::size_t p : changing_) {
+    double* lanes = &theta_[p * L];
+    for (std::size_t l = 0; l < L; ++l) lanes[l] = thetas[l < count ? l : 0][p];
+  }
+}
+
+void LaneSolver::check(unsigned char* ok) const {
+  for (std::size_t l = 0; l < L; ++l) ok[l] = 1;
+  for (std::size_t k = 0; k < changing_.size(); ++k) {
+    const double* v = &theta_[changing_[k] * L];
+    const bool positive = positive_[k] != 0;
+    for (std::size_t l = 0; l < L; ++l) {
+      const bool bad = !std::isfinite(v[l]) || (positive && !(v[l] > 0.0));
+      ok[l] = static_cast<unsigned char>(ok[l] & !bad);
+    }
+  }
+  // As Network's limits_of: a swing that has closed up is out of range.
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  for (const Limits& o : limits_) {
+    for (std::size_t l = 0; l < L; ++l) {
+      double high = inf, low = -inf;
+      if (o.high != npos) {
+        high = theta_[o.high * L + l] -
+               (o.headroom_high != npos ? theta_[o.headroom_high * L + l] : 0.0);
+      }
+      if (o.low != npos) {
+        low = theta_[o.low * L + l] + (o.headroom_low != npos ? theta_[o.headroom_low * L + l] : 0.0);
+      }
+      if (!(high > low)) ok[l] = 0;
+    }
+  }
+}
+
+template <typename T>
+void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
+  // The fill of Network's factor_pattern, per lane.
+  const auto& f = lanes.pattern->fill;
+  T* v = lanes.values.data();
+  const std::size_t nnz = f.constants.size();
+  for (std::size_t s = 0; s < nnz; ++s) lanes_set<L>(v + s * L, f.constants[s]);
+  double* r = lanes.reciprocal.data();
+  for (std::size_t k = 0; k < f.inverse.size(); ++k) {
+    const double* __restrict p = &theta_[f.inverse[k] * L];
+    double* __restrict out = r + k * L;
+    for (std::size_t l = 0; l < L; ++l) out[l] = 1.0 / p[l];
+  }
+  for (const auto& t : f.real_reciprocal) lanes_add_scaled<L>(v + t.slot * L, t.factor, r + t.index * L);
+  for (const auto& t : f.real_value) {
+    lanes_add_scaled<L>(v + t.slot * L, t.factor, theta_.data() + t.index * L);
+  }
+  if constexpr (!std::is_same<T, double>::value) {
+    const double frequency = lanes.frequency;
+    for (const auto& t : f.imag_value) {
+      for (std::size_t l = 0; l < L; ++l) {
+        v[t.slot * L + l] += T(0.0, frequency * t.factor * theta_[t.index * L + l]);
+      }
+    }
+    for (const auto& t : f.imag_reciprocal) {
+      for (std::size_t l = 0; l < L; ++l) {
+        v[t.slot * L + l] += T(0.0, frequency * t.factor * r[t.index * L + l]);
+      }
+    }
+  }
+  // The dense path's singularity scale, n eps max |a_ij|, per lane.
+  double* scale2 = scale_.data();
+  for (std::size_t l = 0; l < L; ++l) scale2[l] = 0.0;
+  for (std::size_t s = 0; s < nnz; ++s) {
+    for (std::size_t l = 0; l < L; ++l) scale2[l] = std::max(scale2[l], magnitude2(v[s * L + l]));
+  }
+  const auto& lu = lanes.pattern->lu;
+  const double n_eps = static_cast<double>(lu.size()) * std::numeric_limits<double>::epsilon();
+  double tiny[L];
+  for (std::size_t l = 0; l < L; ++l) tiny[l] = n_eps * std::sqrt(scale2[l]);
+  lu.template factor_lanes<L>(v, lanes.inverse.data(), tiny, ok);
+
+  // The right-hand sides, in step order, then one pass of triangular solves for all.
+  T* y = lanes.y.data();
+  // The last solve left its solutions in y: clear it (a loop of vector stores; a call
+  // to memset costs more at this size).
+  for (std::size_t i = 0; i < lanes.y.size(); i += L) lanes_set<L>(y + i, T(0));
+  for (const RhsOp& op : lanes.rhs) {
+    T* row = y + op.offset;
+    switch (op.kind) {
+      case RhsOp::add_parameter:
+        lanes_add_scaled<L>(row, op.value, theta_.data() + static_cast<std::size_t>(op.parameter) * L);
+        break;
+      case RhsOp::add_constant:
+        for (std::size_t l = 0; l < L; ++l) row[l] += op.value;
+        break;
+      case RhsOp::set_constant: lanes_set<L>(row, T(op.value)); break;
+    }
+  }
+  lu.template solve_lanes<L>(v, lanes.inverse.data(), y, lanes.excitations);
+}
+
+// The hot loops, compiled for AVX2 as well where the compiler and loader can pick per
+// machine (GNU ifunc). AVX2 without FMA does the same IEEE operations, so every clone
+// gives the same bits.
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
+#define LOTWISE_LANE_CLONES __attribute__((target_clones("avx2", "default"), flatten))
+#else
+#define LOTWISE_LANE_CLONES
+#endif
+
+LOTWISE_LANE_CLONES void LaneSolver::run_dc(LaneAnalysis<double>& lanes, unsigned char* ok) {
+  run(lanes, ok);
+}
+
+LOTWISE_LANE_CLONES void LaneSolver::run_ac(LaneAnalysis<std::complex<double>>& lanes,
+                                            unsigned char* ok) {
+  run(lanes, ok);
+}
+
+void LaneSolver::solve(std::size_t a, unsigned char* ok) {
+  const auto& which = analyses_[a];
+  if (which.first) {
+    run_ac(ac_[which.second], ok);
+  } else {
+    run_dc(dc_[which.second], ok);
+  }
+}
+
+const double* LaneSolver::dc(std::size_t a, std::size_t e, std::size_t i) const {
+  const auto& lanes = dc_[analyses_[a].second];
+  return &lanes.y[(lanes.pattern->lu.step_of_col(i) * lanes.excitations + e) * L];
+}
+
+const std::complex<double>* LaneSolver::ac(std::size_t a, std::size_t e, std::size_t i) const {
+  const auto& lanes = ac_[analyses_[a].second];
+  return &lanes.y[(lanes.pattern->lu.step_of_col(i) * lanes.excitations + e) * L];
+}
+
+}  // namespace lotwise::detail
