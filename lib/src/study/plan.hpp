@@ -118,6 +118,8 @@ class Evaluator {
   /// is evaluated alone. Allocates nothing.
   void evaluate_lanes(const double* const* thetas, double* const* values, SolveStatus* statuses,
                       std::size_t count);
+  /// False when evaluate_lanes goes one vector at a time (no reusable pattern).
+  bool uses_lanes() const { return lane_solver_ != nullptr; }
   /// After evaluate_lanes: lane l's saturated() flags and saturated_opamp().
   const unsigned char* saturated_lane(std::size_t l) const {
     return lane_saturated_.data() + l * plan_.measurements.size();
