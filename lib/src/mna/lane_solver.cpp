@@ -107,6 +107,20 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
     lanes.values.resize(lu.nonzeros() * L);
     lanes.inverse.resize(n * L);
     lanes.reciprocal.resize(lanes.pattern->fill.inverse.size() * L);
+    // Which slots vary and which must be refilled (see LaneAnalysis).
+    const auto& fill = lanes.pattern->fill;
+    std::vector<unsigned char> varies(lu.nonzeros(), 0), written(lu.nonzeros(), 0);
+    for (const auto* terms : {&fill.real_reciprocal, &fill.real_value, &fill.imag_value,
+                              &fill.imag_reciprocal}) {
+      for (const auto& t : *terms) varies[t.slot] = 1;
+    }
+    for (const auto s : lu.written_slots()) written[s] = 1;
+    for (std::size_t s = 0; s < lu.nonzeros(); ++s) {
+      if (varies[s]) lanes.varying.push_back(static_cast<std::uint32_t>(s));
+      if (varies[s] || written[s]) lanes.refill.push_back(static_cast<std::uint32_t>(s));
+      if (!varies[s]) lanes.constant_scale2 = std::max(lanes.constant_scale2, magnitude2(fill.constants[s]));
+      for (std::size_t l = 0; l < L; ++l) lanes.values[s * L + l] = fill.constants[s];
+    }
     lanes.y.assign(excitations.size() * n * L, typename std::decay_t<decltype(lanes.y)>::value_type(0));
   };
   if (frequency == 0.0) {
@@ -148,17 +162,21 @@ void LaneSolver::load(const double* const* thetas, std::size_t count) {
 }
 
 void LaneSolver::check(unsigned char* ok) const {
-  for (std::size_t l = 0; l < L; ++l) ok[l] = 1;
+  // In range: finite, and above 0 where only positive values are physical; as masks,
+  // without branches (a NaN fails both comparisons).
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  double good[L];
+  for (std::size_t l = 0; l < L; ++l) good[l] = 1.0;
   for (std::size_t k = 0; k < changing_.size(); ++k) {
-    const double* v = &theta_[changing_[k] * L];
-    const bool positive = positive_[k] != 0;
+    const double* __restrict v = &theta_[changing_[k] * L];
+    const double above = positive_[k] != 0 ? 0.0 : -inf;
     for (std::size_t l = 0; l < L; ++l) {
-      const bool bad = !std::isfinite(v[l]) || (positive && !(v[l] > 0.0));
-      ok[l] = static_cast<unsigned char>(ok[l] & !bad);
+      const double in = (v[l] > above && v[l] < inf) ? 1.0 : 0.0;
+      good[l] = std::min(good[l], in);
     }
   }
+  for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0.0 ? 1 : 0;
   // As Network's limits_of: a swing that has closed up is out of range.
-  constexpr double inf = std::numeric_limits<double>::infinity();
   for (const Limits& o : limits_) {
     for (std::size_t l = 0; l < L; ++l) {
       double high = inf, low = -inf;
@@ -179,8 +197,7 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   // The fill of Network's factor_pattern, per lane.
   const auto& f = lanes.pattern->fill;
   T* v = lanes.values.data();
-  const std::size_t nnz = f.constants.size();
-  for (std::size_t s = 0; s < nnz; ++s) lanes_set<L>(v + s * L, f.constants[s]);
+  for (const std::uint32_t s : lanes.refill) lanes_set<L>(v + s * L, f.constants[s]);
   double* r = lanes.reciprocal.data();
   for (std::size_t k = 0; k < f.inverse.size(); ++k) {
     const double* __restrict p = &theta_[f.inverse[k] * L];
@@ -206,8 +223,10 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   }
   // The dense path's singularity scale, n eps max |a_ij|, per lane.
   double* scale2 = scale_.data();
-  for (std::size_t l = 0; l < L; ++l) scale2[l] = 0.0;
-  for (std::size_t s = 0; s < nnz; ++s) {
+  // The maximum is exact and NaN never enters it, so taking the constants' part once
+  // gives the same value as a pass over every entry.
+  for (std::size_t l = 0; l < L; ++l) scale2[l] = lanes.constant_scale2;
+  for (const std::uint32_t s : lanes.varying) {
     for (std::size_t l = 0; l < L; ++l) scale2[l] = std::max(scale2[l], magnitude2(v[s * L + l]));
   }
   const auto& lu = lanes.pattern->lu;

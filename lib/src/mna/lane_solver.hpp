@@ -12,12 +12,10 @@
 #include <vector>
 
 #include "lotwise/network.hpp"
+#include "mna/lane_count.hpp"
 #include "mna/layout.hpp"
 
 namespace lotwise::detail {
-
-/// Parameter vectors solved together (a multiple of the SIMD width of common machines).
-constexpr std::size_t solve_lanes = 8;
 
 /// One operation of a right-hand side, replayed per lane in the order fill_rhs adds.
 struct RhsOp {
@@ -34,6 +32,13 @@ struct LaneAnalysis {
   std::size_t excitations = 0;
   std::vector<RhsOp> rhs;                ///< every excitation's operations, in order
   std::vector<T> values;                 ///< nonzeros x lanes
+  /// Slots refilled with their constant before each factorisation: those the terms add
+  /// to or the factorisation writes. The others hold their constant from the start.
+  std::vector<std::uint32_t> refill;
+  /// Slots the terms add to, and the largest |constant|^2 of the others: the matrix's
+  /// largest entry (for the singularity test) is the larger of the two maxima.
+  std::vector<std::uint32_t> varying;
+  double constant_scale2 = 0.0;
   std::vector<T> inverse;                ///< size x lanes
   std::vector<double> reciprocal;        ///< the fill's reciprocals, x lanes
   std::vector<T> y;  ///< right-hand sides, then solutions: [step][excitation][lane]

@@ -237,6 +237,13 @@ class PatternLU {
   void factor_lanes(T* v, T* inverse, const double* tiny, unsigned char* ok) const {
     const double u2 = pivot_check_threshold * pivot_check_threshold;
     constexpr double inf = std::numeric_limits<double>::infinity();
+    // The checks as all-ones / zero masks, combined without branches (vectorised).
+    std::int64_t good[L];
+    double tiny2[L];
+    for (std::size_t l = 0; l < L; ++l) {
+      good[l] = ok[l] ? -1 : 0;
+      tiny2[l] = tiny[l] * tiny[l];
+    }
     for (std::size_t k = 0; k < n_; ++k) {
       const T* p = v + static_cast<std::size_t>(pivot_[k]) * L;
       double col2[L];
@@ -246,13 +253,15 @@ class PatternLU {
         const T* c = v + static_cast<std::size_t>(lower_slot_[t]) * L;
         for (std::size_t l = 0; l < L; ++l) col2[l] = std::max(col2[l], magnitude2(c[l]));
       }
-      T* inv = inverse + k * L;
       for (std::size_t l = 0; l < L; ++l) {
+        // As factor(): a NaN anywhere fails.
         const double p2 = magnitude2(p[l]);
-        const bool good = p2 > tiny[l] * tiny[l] && p2 >= u2 * col2[l] && p2 < inf;
-        ok[l] = static_cast<unsigned char>(ok[l] & static_cast<unsigned char>(good));
-        inv[l] = T(1) / p[l];
+        good[l] &= -static_cast<std::int64_t>(p2 > tiny2[l]) &
+                   -static_cast<std::int64_t>(p2 >= u2 * col2[l]) &
+                   -static_cast<std::int64_t>(p2 < inf);
       }
+      T* inv = inverse + k * L;
+      for (std::size_t l = 0; l < L; ++l) inv[l] = T(1) / p[l];
       const Index ub = upper_begin_[k];
       const Index width = upper_begin_[k + 1] - ub;
       const Index* target = update_.data() + update_begin_[k];
@@ -266,6 +275,17 @@ class PatternLU {
         target += width;
       }
     }
+    for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0 ? 1 : 0;
+  }
+
+  /// Slots the factorisation writes (multipliers and updated entries), sorted: the
+  /// others keep the values they were filled with.
+  std::vector<Index> written_slots() const {
+    std::vector<Index> out(lower_slot_);
+    out.insert(out.end(), update_.begin(), update_.end());
+    std::sort(out.begin(), out.end());
+    out.erase(std::unique(out.begin(), out.end()), out.end());
+    return out;
   }
 
   /// Elimination step of original row r (its right-hand side's place in solve_lanes)

@@ -137,9 +137,11 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
       for (std::size_t b = 0; b < block; ++b) {
         const std::size_t row = b * evaluations + q;
         status_[row] = statuses[b];
-        std::copy(evaluator_.saturated_lane(b), evaluator_.saturated_lane(b) + m_count,
-                  withheld_.begin() + static_cast<std::ptrdiff_t>(row * m_count));
         any_saturated_[row] = evaluator_.saturated_opamp_lane(b) != Network::npos;
+        if (any_saturated_[row]) {  // else every flag is clear
+          std::copy(evaluator_.saturated_lane(b), evaluator_.saturated_lane(b) + m_count,
+                    withheld_.begin() + static_cast<std::ptrdiff_t>(row * m_count));
+        }
       }
     }
     // Tally in build order, exactly as one build at a time.
@@ -162,7 +164,8 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         const std::size_t row = b * evaluations + q;
         const double* theta = &theta_[row * p_count];
         const double* values = &values_[row * m_count];
-        const unsigned char* withheld = &withheld_[row * m_count];
+        const unsigned char* withheld =
+            any_saturated_[row] ? &withheld_[row * m_count] : evaluator_.no_saturation();
         const SolveStatus status = status_[row];
         Tally* here = sweep ? &tally.temperatures[q] : nullptr;
         bool ok_here = status == SolveStatus::ok;

@@ -9,6 +9,7 @@
 
 #include <boost/math/tools/roots.hpp>
 
+#include "mna/lane_solver.hpp"
 #include "mna/layout.hpp"
 
 #include "lotwise/error.hpp"
@@ -513,7 +514,7 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
       probe_values_(plan.probes.size()),
       saturated_(plan.measurements.size(), 0),
       lane_probes_(plan.probes.size() * lanes),
-      lane_saturated_(plan.measurements.size() * lanes, 0),
+      lane_saturated_(plan.measurements.size() * (lanes + 1), 0),
       lane_saturated_opamp_(lanes, Network::npos) {
   // One pivot order per kind of matrix, chosen at nominal values and reused by every
   // sample (the dense factorisation remains the fallback).
@@ -539,10 +540,15 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
   if (solver->usable()) lane_solver_ = std::move(solver);
 }
 
+Evaluator::~Evaluator() = default;
+Evaluator::Evaluator(Evaluator&&) noexcept = default;
+
 void Evaluator::keep_lane(std::size_t l) {
+  // The flags are all clear unless an op-amp saturated (see saturated_lane).
+  lane_saturated_opamp_[l] = saturated_opamp_;
+  if (saturated_opamp_ == Network::npos) return;
   std::copy(saturated_.begin(), saturated_.end(),
             lane_saturated_.begin() + static_cast<std::ptrdiff_t>(l * saturated_.size()));
-  lane_saturated_opamp_[l] = saturated_opamp_;
 }
 
 void Evaluator::evaluate_lanes(const double* const* thetas, double* const* values,
@@ -673,8 +679,10 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
       case MeasurementKind::cmrr: {
         // A common-mode gain within rounding of zero (a perfectly matched network) is
         // infinite rejection, not a 300 dB figure made of rounding noise.
-        const double common = std::abs(probe_values_[m.second]);
-        const double signal = std::abs(first);
+        // At DC the probes are real; |x + 0i| is |x| exactly, without a call to hypot.
+        const std::complex<double> second = probe_values_[m.second];
+        const double common = at_dc ? std::abs(second.real()) : std::abs(second);
+        const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
         values[i] = common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
                         ? std::numeric_limits<double>::infinity()
                         : 20.0 * std::log10(signal / common);

@@ -7,9 +7,11 @@
 
 #include "lotwise/design.hpp"
 #include "lotwise/network.hpp"
-#include "mna/lane_solver.hpp"
+#include "mna/lane_count.hpp"
 
 namespace lotwise::detail {
+
+class LaneSolver;
 
 /// One matrix per sample: DC (frequency 0, real) or small-signal at a frequency. A DC
 /// analysis may hold op-amp outputs (trip points): their branch rows are replaced.
@@ -106,6 +108,8 @@ class Evaluator {
   /// when null); evaluate_lanes checks only those per vector.
   Evaluator(const Network& network, const Plan& plan,
             const std::vector<std::size_t>* changing = nullptr);
+  ~Evaluator();
+  Evaluator(Evaluator&&) noexcept;
   /// Writes one value per measurement into `values`. Allocates nothing. A measurement
   /// withheld because an op-amp it relies on saturated gets NaN and its saturated() flag.
   SolveStatus evaluate(const double* theta, double* values);
@@ -122,7 +126,12 @@ class Evaluator {
   bool uses_lanes() const { return lane_solver_ != nullptr; }
   /// After evaluate_lanes: lane l's saturated() flags and saturated_opamp().
   const unsigned char* saturated_lane(std::size_t l) const {
+    if (lane_saturated_opamp_[l] == Network::npos) return no_saturation();
     return lane_saturated_.data() + l * plan_.measurements.size();
+  }
+  /// A row of clear saturation flags, one per measurement.
+  const unsigned char* no_saturation() const {
+    return lane_saturated_.data() + lanes * plan_.measurements.size();
   }
   std::size_t saturated_opamp_lane(std::size_t l) const { return lane_saturated_opamp_[l]; }
   /// Per measurement, after evaluate(): 1 where the value was withheld for saturation.
@@ -152,7 +161,7 @@ class Evaluator {
   std::size_t saturated_opamp_ = Network::npos;
   std::unique_ptr<LaneSolver> lane_solver_;  ///< null when the lanes cannot be used
   std::vector<std::complex<double>> lane_probes_;  ///< probes x lanes
-  std::vector<unsigned char> lane_saturated_;      ///< lanes x measurements
+  std::vector<unsigned char> lane_saturated_;      ///< (lanes + 1) x measurements
   std::vector<std::size_t> lane_saturated_opamp_;
 };
 
