@@ -146,6 +146,7 @@ VariationModel::VariationModel(const Circuit& circuit, const std::vector<Variati
   }
   if (temperature_.drawn) temperature_coordinate_ = add_coordinate(false, "temperature");
   set_correlations(circuit, correlations, part_coordinate);
+  plan_fast_paths();
 }
 
 void VariationModel::set_correlations(const Circuit& circuit,
@@ -273,20 +274,58 @@ void VariationModel::set_correlations(const Circuit& circuit,
   }
 }
 
+void VariationModel::plan_fast_paths() {
+  // Value and coefficient terms per entry: a plain term must be its entry's only value term.
+  std::vector<std::size_t> value_terms(entries_.size(), 0), coefficient_terms(entries_.size(), 0);
+  for (const Term& t : terms_) ++(t.coefficient ? coefficient_terms : value_terms)[t.entry];
+  std::vector<bool> plain(entries_.size(), false);
+  for (std::size_t k = 0; k < terms_.size(); ++k) {
+    const Term& t = terms_[k];
+    const bool normal = coordinates_[t.coordinate].normal;
+    const Distribution kind = t.spread.kind;
+    if (!t.coefficient && value_terms[t.entry] == 1 && normal == t.spread.wants_normal() &&
+        (kind == Distribution::normal || kind == Distribution::uniform)) {
+      (kind == Distribution::normal ? plain_normal_ : plain_uniform_)
+          .push_back(PlainTerm{t.coordinate, t.entry, t.spread.scale, t.scale});
+      plain[t.entry] = true;
+      continue;
+    }
+    Convert convert = Convert::none;
+    if (normal != t.spread.wants_normal()) convert = normal ? Convert::to_uniform : Convert::to_normal;
+    general_.push_back(GeneralTerm{k, convert});
+  }
+  for (std::size_t e = 0; e < entries_.size(); ++e) {
+    if (!plain[e]) summed_.push_back(e);
+    if (coefficient_terms[e] > 0) coefficients_.push_back(e);
+    const Entry& entry = entries_[e];
+    const Target target{entry.parameter, e, entry.nominal};
+    // A zero coefficient times a finite shift adds or multiplies by nothing (the value
+    // is never -0: it is nominal + a sum started from +0).
+    if (coefficient_terms[e] == 0 && entry.coefficient == 0.0) {
+      constant_.push_back(target);
+    } else {
+      (entry.relative_coefficient ? relative_ : absolute_).push_back(target);
+    }
+  }
+}
+
 BuildScratch VariationModel::make_scratch() const {
   BuildScratch s;
   s.x.assign(coordinates_.size(), 0.0);
   s.z.assign(correlated_.size(), 0.0);
   s.deviation.assign(entries_.size(), 0.0);
-  s.coefficient.assign(entries_.size(), 0.0);
+  s.coefficient.resize(entries_.size());
+  for (std::size_t e = 0; e < entries_.size(); ++e) s.coefficient[e] = entries_[e].coefficient;
   s.temperature = temperature_.reference;
   return s;
 }
 
 void VariationModel::prepare(const double* point, BuildScratch& s) const {
-  for (std::size_t i = 0; i < coordinates_.size(); ++i) s.x[i] = point[i];
+  // Without correlation the terms read the point itself.
+  const double* x = point;
   const std::size_t m = correlated_.size();
   if (m > 0) {
+    for (std::size_t i = 0; i < coordinates_.size(); ++i) s.x[i] = point[i];
     for (std::size_t i = 0; i < m; ++i) s.z[i] = s.x[correlated_[i]];
     for (std::size_t i = 0; i < m; ++i) {
       const double* row = &cholesky_[i * m];
@@ -294,33 +333,55 @@ void VariationModel::prepare(const double* point, BuildScratch& s) const {
       for (std::size_t j = 0; j <= i; ++j) sum += row[j] * s.z[j];
       s.x[correlated_[i]] = sum;
     }
+    x = s.x.data();
   }
-  for (std::size_t e = 0; e < entries_.size(); ++e) {
-    s.deviation[e] = 0.0;
-    s.coefficient[e] = entries_[e].coefficient;
+  double* deviation = s.deviation.data();
+  double* coefficient = s.coefficient.data();
+  for (const PlainTerm& t : plain_normal_) {
+    deviation[t.entry] = (t.spread * x[t.coordinate]) * t.scale + 0.0;
   }
-  for (const Term& t : terms_) {
-    double x = s.x[t.coordinate];
-    if (coordinates_[t.coordinate].normal != t.spread.wants_normal()) {
+  for (const PlainTerm& t : plain_uniform_) {
+    deviation[t.entry] = (t.spread * (2.0 * x[t.coordinate] - 1.0)) * t.scale + 0.0;
+  }
+  if (!general_.empty()) {
+    for (std::size_t e : summed_) deviation[e] = 0.0;
+    for (std::size_t e : coefficients_) coefficient[e] = entries_[e].coefficient;
+    for (const GeneralTerm& g : general_) {
+      const Term& t = terms_[g.term];
+      double v = x[t.coordinate];
       // A correlated normal score feeding a law that takes a uniform coordinate.
-      x = coordinates_[t.coordinate].normal ? normal_cdf(x) : normal_quantile(x);
+      if (g.convert == Convert::to_uniform) v = normal_cdf(v);
+      else if (g.convert == Convert::to_normal) v = normal_quantile(v);
+      const double d = t.spread.map(v) * t.scale;
+      (t.coefficient ? coefficient : deviation)[t.entry] += d;
     }
-    const double d = t.spread.map(x) * t.scale;
-    (t.coefficient ? s.coefficient : s.deviation)[t.entry] += d;
   }
   if (temperature_coordinate_ != npos) {
-    s.temperature = temperature_.low + (temperature_.high - temperature_.low) * s.x[temperature_coordinate_];
+    s.temperature = temperature_.low + (temperature_.high - temperature_.low) * x[temperature_coordinate_];
   }
 }
 
 void VariationModel::apply(const BuildScratch& s, double celsius, double* theta) const {
   const double shift = celsius - temperature_.reference;
-  for (std::size_t e = 0; e < entries_.size(); ++e) {
-    const Entry& entry = entries_[e];
-    const double value = entry.nominal + s.deviation[e];
-    const double c = s.coefficient[e];
-    theta[entry.parameter] =
-        entry.relative_coefficient ? value * (1.0 + c * shift) : value + c * shift;
+  const double* deviation = s.deviation.data();
+  const double* coefficient = s.coefficient.data();
+  if (!std::isfinite(shift)) {
+    // Zero coefficients times a shift that is not finite are not nothing.
+    for (std::size_t e = 0; e < entries_.size(); ++e) {
+      const Entry& entry = entries_[e];
+      const double value = entry.nominal + deviation[e];
+      const double c = coefficient[e];
+      theta[entry.parameter] =
+          entry.relative_coefficient ? value * (1.0 + c * shift) : value + c * shift;
+    }
+    return;
+  }
+  for (const Target& t : constant_) theta[t.parameter] = t.nominal + deviation[t.entry];
+  for (const Target& t : relative_) {
+    theta[t.parameter] = (t.nominal + deviation[t.entry]) * (1.0 + coefficient[t.entry] * shift);
+  }
+  for (const Target& t : absolute_) {
+    theta[t.parameter] = (t.nominal + deviation[t.entry]) + coefficient[t.entry] * shift;
   }
 }
 

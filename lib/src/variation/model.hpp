@@ -69,8 +69,9 @@ class VariationModel {
 
   BuildScratch make_scratch() const;
 
-  /// Maps one point (dimension() native coordinates) to the build's deviations.
-  /// Allocates nothing.
+  /// Maps one point (dimension() native coordinates) to the build's deviations. `s` must
+  /// come from this model's make_scratch: entries without a coefficient term keep the
+  /// nominal coefficient it wrote. Allocates nothing.
   void prepare(const double* point, BuildScratch& s) const;
 
   /// Temperature of evaluation `q` of the prepared build.
@@ -95,6 +96,40 @@ class VariationModel {
   std::size_t temperature_coordinate_ = static_cast<std::size_t>(-1);
   std::vector<std::size_t> correlated_;  ///< coordinates mixed by the Cholesky factor
   std::vector<double> cholesky_;         ///< lower factor, row-major, correlated_.size()^2
+
+  // Per-sample fast paths, compiled once by plan_fast_paths(). They give the values of the
+  // general loop bit for bit: the same operations in the same order per entry.
+  void plan_fast_paths();
+  /// An entry whose value has one term, a normal (uniform) law on a coordinate of the same
+  /// kind: deviation = (spread * x) * scale (spread * (2x - 1) * scale), plus 0.0 as the
+  /// general loop's sum from 0.0 has it.
+  struct PlainTerm {
+    std::size_t coordinate;
+    std::size_t entry;
+    double spread;
+    double scale;
+  };
+  std::vector<PlainTerm> plain_normal_;
+  std::vector<PlainTerm> plain_uniform_;
+  /// The other terms, in their order, and how each converts its coordinate first.
+  enum class Convert : unsigned char { none, to_uniform, to_normal };
+  struct GeneralTerm {
+    std::size_t term;  ///< index in terms_ (an index, so that copies of the model hold)
+    Convert convert;
+  };
+  std::vector<GeneralTerm> general_;
+  std::vector<std::size_t> summed_;        ///< entries whose deviation is not plain: reset to 0
+  std::vector<std::size_t> coefficients_;  ///< entries with a coefficient term: reset to nominal
+  /// apply(): entries with no coefficient (value = nominal + deviation at any temperature),
+  /// and those with one, relative or absolute.
+  struct Target {
+    std::size_t parameter;
+    std::size_t entry;
+    double nominal;
+  };
+  std::vector<Target> constant_;
+  std::vector<Target> relative_;
+  std::vector<Target> absolute_;
 };
 
 }  // namespace lotwise::detail

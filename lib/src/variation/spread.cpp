@@ -96,7 +96,7 @@ Spread make_spread(Distribution kind, double t, double k, double inner) {
   return s;
 }
 
-double Spread::map(double x) const {
+double Spread::map_shaped(double x) const {
   switch (kind) {
     case Distribution::normal: return scale * x;
     case Distribution::uniform: return scale * (2.0 * x - 1.0);

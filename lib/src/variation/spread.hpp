@@ -21,7 +21,14 @@ struct Spread {
   bool wants_normal() const {
     return kind == Distribution::normal || kind == Distribution::log_normal;
   }
-  double map(double x) const;
+  double map(double x) const {
+    // The two plain laws inline: they are most terms of most studies.
+    if (kind == Distribution::normal) return scale * x;
+    if (kind == Distribution::uniform) return scale * (2.0 * x - 1.0);
+    return map_shaped(x);
+  }
+  /// map() through the full switch of laws (any kind).
+  double map_shaped(double x) const;
 };
 
 /// Compiles a law with tolerance t, sigmas k and (binned) inner band half-width. The
