@@ -95,6 +95,37 @@ void scramble_sobol(const SobolDirections& directions, Engine& engine, std::uint
   }
 }
 
+void PeekEngine::seed(std::uint64_t value) {
+  // Knuth's multiplicative initialisation, as Engine::seed(value).
+  x_[0] = value;
+  for (std::size_t i = 1; i < n; ++i) {
+    x_[i] = Engine::initialization_multiplier * (x_[i - 1] ^ (x_[i - 1] >> 62)) + i;
+  }
+  i_ = n;
+}
+
+void PeekEngine::refill() {
+  constexpr std::size_t m = Engine::shift_size;
+  constexpr std::uint64_t upper = ~std::uint64_t{0} << Engine::mask_bits;
+  constexpr std::uint64_t lower = ~upper;
+  constexpr std::uint64_t a = Engine::xor_mask;
+  auto mixed = [&](std::uint64_t high, std::uint64_t low) {
+    return (((high & upper) | (low & lower)) >> 1) ^ ((low & 1u) * a);
+  };
+  // Three loops instead of indices modulo n.
+  for (std::size_t j = 0; j < n - m; ++j) x_[j] = x_[j + m] ^ mixed(x_[j], x_[j + 1]);
+  for (std::size_t j = n - m; j < n - 1; ++j) x_[j] = x_[j - (n - m)] ^ mixed(x_[j], x_[j + 1]);
+  x_[n - 1] = x_[m - 1] ^ mixed(x_[n - 1], x_[0]);
+  for (std::size_t j = 0; j < n; ++j) {
+    std::uint64_t z = x_[j];
+    z ^= (z >> Engine::tempering_u) & Engine::tempering_d;
+    z ^= (z << Engine::tempering_s) & Engine::tempering_b;
+    z ^= (z << Engine::tempering_t) & Engine::tempering_c;
+    out_[j] = z ^ (z >> Engine::tempering_l);
+  }
+  i_ = 0;
+}
+
 std::uint64_t replicate_seed(std::uint64_t seed, std::uint64_t replicate) {
   return chunk_seed(~seed, replicate);
 }
@@ -117,6 +148,30 @@ PointStream::PointStream(const VariationModel& model, Sampler sampler, std::uint
     block_.resize(static_cast<std::size_t>(chunk_size) * dimension_);
     order_.resize(chunk_size);
   }
+  for (const Coordinate& c : model.coordinates()) {
+    if (runs_.empty() || runs_.back().normal != c.normal) runs_.push_back(Run{0, c.normal});
+    ++runs_.back().count;
+  }
+}
+
+// Boost.Random's normal_distribution on the same engine state, with its common case
+// inline. Its ziggurat (128 layers, mirrored) takes one 64-bit output as a layer and
+// sign (the low 8 bits) and a fraction (bits 8..63 without bit 11, over 2^56); the
+// draw is accepted at once when the fraction times the layer's width falls inside the
+// next layer. Otherwise the output is left untaken and Boost draws from the same state.
+inline double PointStream::normal_draw() {
+  const double* const width = boost::random::detail::normal_table<double>::table_x;
+  const std::uint64_t u = peek_engine_.peek();
+  const int bucket = static_cast<int>(u & 0xFFu);
+  const int layer = bucket >> 1;
+  const double x = static_cast<double>((u & ~(std::uint64_t{1} << 11)) >> 8) * 0x1.0p-56 * width[layer];
+  if (x < width[layer + 1]) {
+    peek_engine_.skip();
+    // Boost's sign, then its mean 0 and sigma 1 (which also turn -0 into +0).
+    const int sign = (bucket & 1) * 2 - 1;
+    return x * sign * 1.0 + 0.0;
+  }
+  return normal_(peek_engine_);
 }
 
 void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t replicate,
@@ -124,7 +179,7 @@ void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t r
   const auto& coordinates = model_.coordinates();
   switch (sampler_) {
     case Sampler::monte_carlo:
-      engine_.seed(chunk_seed(seed, chunk));
+      peek_engine_.seed(chunk_seed(seed, chunk));
       break;
     case Sampler::sobol: {
       if (replicate != replicate_ || seed != seed_ || scrambled_.empty()) {
@@ -167,21 +222,32 @@ void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t r
 }
 
 const double* PointStream::next() {
-  const auto& coordinates = model_.coordinates();
   switch (sampler_) {
-    case Sampler::monte_carlo:
-      for (std::size_t j = 0; j < dimension_; ++j) {
-        point_[j] = coordinates[j].normal ? normal_(engine_) : uniform_(engine_);
+    case Sampler::monte_carlo: {
+      double* out = point_.data();
+      for (const Run& run : runs_) {
+        double* const end = out + run.count;
+        if (run.normal) {
+          for (; out != end; ++out) *out = normal_draw();
+        } else {
+          for (; out != end; ++out) *out = uniform_(peek_engine_);
+        }
       }
       return point_.data();
+    }
     case Sampler::sobol: {
-      for (std::size_t j = 0; j < dimension_; ++j) {
-        const double u = to_unit(state_[j]);
-        point_[j] = coordinates[j].normal ? normal_quantile(u) : u;
+      std::size_t j = 0;
+      for (const Run& run : runs_) {
+        const std::size_t end = j + run.count;
+        if (run.normal) {
+          for (; j < end; ++j) point_[j] = normal_quantile(to_unit(state_[j]));
+        } else {
+          for (; j < end; ++j) point_[j] = to_unit(state_[j]);
+        }
       }
       ++index_;
       const unsigned b = lowest_bit(index_);
-      for (std::size_t j = 0; j < dimension_; ++j) state_[j] ^= scrambled_[b * dimension_ + j];
+      for (std::size_t k = 0; k < dimension_; ++k) state_[k] ^= scrambled_[b * dimension_ + k];
       return point_.data();
     }
     case Sampler::latin_hypercube:

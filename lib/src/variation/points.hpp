@@ -51,6 +51,39 @@ inline double to_unit(std::uint64_t x) {
 /// Stream seeds of the randomisation of replicate `replicate` (Sobol scramble).
 std::uint64_t replicate_seed(std::uint64_t seed, std::uint64_t replicate);
 
+/// MT19937-64 (Matsumoto & Nishimura), output for output the same as Engine from the same
+/// seed, with the next output readable before it is taken: the monte_carlo sampler tests
+/// the common case of a ziggurat draw on it and leaves the rest to Boost.Random unchanged.
+class PeekEngine {
+ public:
+  using result_type = std::uint64_t;
+  static constexpr result_type min() { return 0; }
+  static constexpr result_type max() { return ~result_type{0}; }
+
+  void seed(std::uint64_t value);
+  /// The next output, not taken.
+  result_type peek() {
+    if (i_ == n) refill();
+    return out_[i_];
+  }
+  /// Takes the output peek() gave.
+  void skip() { ++i_; }
+  result_type operator()() {
+    const result_type z = peek();
+    ++i_;
+    return z;
+  }
+
+ private:
+  static constexpr std::size_t n = Engine::state_size;
+  /// Advances the state by n outputs and tempers them all at once (a loop the compiler
+  /// vectorises) rather than one by one as they are taken.
+  void refill();
+  std::uint64_t x_[n] = {};
+  std::uint64_t out_[n] = {};
+  std::size_t i_ = n;
+};
+
 /// One worker's sampler: fills the native coordinates of a model's points.
 class PointStream {
  public:
@@ -73,7 +106,15 @@ class PointStream {
   const SobolDirections* directions_;
   std::size_t dimension_;
   std::vector<double> point_;
-  Engine engine_;
+  Engine engine_;  // latin_hypercube
+  // monte_carlo and sobol: the coordinates as runs of one kind (normal or not), in order.
+  struct Run {
+    std::size_t count;
+    bool normal;
+  };
+  std::vector<Run> runs_;
+  PeekEngine peek_engine_;
+  double normal_draw();
   // monte_carlo. Both are stateless for our use: Boost's normal_distribution is a
   // ziggurat that keeps no cached second value, so draws depend only on the engine.
   boost::random::normal_distribution<double> normal_;
