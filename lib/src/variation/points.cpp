@@ -110,7 +110,7 @@ void PeekEngine::refill() {
   constexpr std::uint64_t lower = ~upper;
   constexpr std::uint64_t a = Engine::xor_mask;
   auto mixed = [&](std::uint64_t high, std::uint64_t low) {
-    return (((high & upper) | (low & lower)) >> 1) ^ ((low & 1u) * a);
+    return (((high & upper) | (low & lower)) >> 1) ^ ((std::uint64_t{0} - (low & 1u)) & a);
   };
   // Three loops instead of indices modulo n.
   for (std::size_t j = 0; j < n - m; ++j) x_[j] = x_[j + m] ^ mixed(x_[j], x_[j + 1]);
@@ -167,9 +167,10 @@ inline double PointStream::normal_draw() {
   const double x = static_cast<double>((u & ~(std::uint64_t{1} << 11)) >> 8) * 0x1.0p-56 * width[layer];
   if (x < width[layer + 1]) {
     peek_engine_.skip();
-    // Boost's sign, then its mean 0 and sigma 1 (which also turn -0 into +0).
-    const int sign = (bucket & 1) * 2 - 1;
-    return x * sign * 1.0 + 0.0;
+    // Boost's sign, (bucket & 1) * 2 - 1 as a double, then its mean 0 and sigma 1 (which
+    // also turn -0 into +0).
+    static constexpr double sign[2] = {-1.0, 1.0};
+    return x * sign[bucket & 1] * 1.0 + 0.0;
   }
   return normal_(peek_engine_);
 }
