@@ -178,7 +178,8 @@ void BM_inamp_part_sampling(benchmark::State& state) {
 BENCHMARK(BM_inamp_part_sampling)
     ->Unit(benchmark::kMillisecond)->MeasureProcessCPUTime()->MinTime(0.5);
 
-// Evaluator::evaluate alone on pre-drawn parameter vectors (all measurements).
+// The evaluator alone on pre-drawn parameter vectors (all measurements): one at a time
+// (Evaluator::evaluate, lanes 0) or side by side (evaluate_lanes, lanes 1).
 void BM_inamp_part_evaluate(benchmark::State& state) {
   const Study& s = inamp();
   Parts parts(s);
@@ -194,16 +195,29 @@ void BM_inamp_part_evaluate(benchmark::State& state) {
     thetas.insert(thetas.end(), theta.begin(), theta.end());
   }
   detail::Evaluator evaluator(s.network(), parts.plan);
-  std::vector<double> values(s.design().measurements.size());
+  const std::size_t m = s.design().measurements.size();
+  constexpr std::size_t lanes = detail::Evaluator::lanes;
+  std::vector<double> values(m * lanes);
+  const double* in[lanes];
+  double* out[lanes];
+  SolveStatus statuses[lanes];
+  for (std::size_t l = 0; l < lanes; ++l) out[l] = &values[l * m];
+  const bool side_by_side = state.range(0) != 0;
   for (auto _ : state) {
-    for (int i = 0; i < 1024; ++i) {
-      evaluator.evaluate(&thetas[static_cast<std::size_t>(i) * n], values.data());
+    for (std::size_t i = 0; i < 1024; i += side_by_side ? lanes : 1) {
+      if (side_by_side) {
+        for (std::size_t l = 0; l < lanes; ++l) in[l] = &thetas[(i + l) * n];
+        evaluator.evaluate_lanes(in, out, statuses, lanes);
+      } else {
+        evaluator.evaluate(&thetas[i * n], values.data());
+      }
       benchmark::DoNotOptimize(values.data());
     }
   }
   set_rate(state, 1024);
 }
-BENCHMARK(BM_inamp_part_evaluate)->MeasureProcessCPUTime()->MinTime(0.5);
+BENCHMARK(BM_inamp_part_evaluate)
+    ->ArgNames({"lanes"})->Arg(0)->Arg(1)->MeasureProcessCPUTime()->MinTime(0.5);
 
 // One DC factorisation and the in-amp's three solves, on the reused pattern (1) or the
 // dense partial-pivoting LU (0), as before this change.
