@@ -7,8 +7,9 @@
 
 namespace lotwise::detail {
 
+// `value` by value: a reference could alias `out`, which keeps the stores scalar.
 template <std::size_t L, typename T>
-inline void lanes_set(T* __restrict out, const T& value) {
+inline void lanes_set(T* __restrict out, const T value) {
   for (std::size_t l = 0; l < L; ++l) out[l] = value;
 }
 

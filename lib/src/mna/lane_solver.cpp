@@ -5,6 +5,7 @@
 #include <limits>
 #include <type_traits>
 
+#include "cpu_dispatch.hpp"
 #include "lotwise/error.hpp"
 #include "mna/lane_ops.hpp"
 
@@ -255,20 +256,11 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   lu.template solve_lanes<L>(v, lanes.inverse.data(), y, lanes.excitations);
 }
 
-// The hot loops, compiled for AVX2 as well where the compiler and loader can pick per
-// machine (GNU ifunc). AVX2 without FMA does the same IEEE operations, so every clone
-// gives the same bits.
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
-#define LOTWISE_LANE_CLONES __attribute__((target_clones("avx2", "default"), flatten))
-#else
-#define LOTWISE_LANE_CLONES
-#endif
-
-LOTWISE_LANE_CLONES void LaneSolver::run_dc(LaneAnalysis<double>& lanes, unsigned char* ok) {
+LOTWISE_AVX2_CLONES void LaneSolver::run_dc(LaneAnalysis<double>& lanes, unsigned char* ok) {
   run(lanes, ok);
 }
 
-LOTWISE_LANE_CLONES void LaneSolver::run_ac(LaneAnalysis<std::complex<double>>& lanes,
+LOTWISE_AVX2_CLONES void LaneSolver::run_ac(LaneAnalysis<std::complex<double>>& lanes,
                                             unsigned char* ok) {
   run(lanes, ok);
 }

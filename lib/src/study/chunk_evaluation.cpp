@@ -155,8 +155,6 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         }
         lot_stats = &tally.lots.back();
       }
-      std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{1});
-      std::fill(spec_saturated_.begin(), spec_saturated_.end(), std::uint8_t{0});
       bool saturated = false;  // at some evaluation of this build
       bool pass = true;
       SolveStatus failure = SolveStatus::ok;  // the build's first unevaluated state
@@ -169,6 +167,8 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         const SolveStatus status = status_[row];
         Tally* here = sweep ? &tally.temperatures[q] : nullptr;
         bool ok_here = status == SolveStatus::ok;
+        // The build's spec flags start at its first evaluation (no fill per build).
+        const bool first = q == 0;
         if (status == SolveStatus::ok) {
           // Values withheld because an op-amp saturated stay out of the statistics; their
           // specs fail, counted as failures for saturation.
@@ -191,16 +191,16 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
           }
           for (std::size_t j = 0; j < spec_count; ++j) {
             const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
-            spec_ok_[j] = spec_ok_[j] && ok;
-            if (withheld[s.spec_measurement[j]]) {
-              spec_saturated_[j] = 1;
-              if (here) ++here->spec_saturated[j];
-            }
+            spec_ok_[j] = (first || spec_ok_[j]) && ok;
+            const bool spec_withheld = withheld[s.spec_measurement[j]] != 0;
+            spec_saturated_[j] = (!first && spec_saturated_[j]) || spec_withheld;
+            if (spec_withheld && here) ++here->spec_saturated[j];
             if (here) here->spec_passed[j] += ok;
             ok_here = ok_here && ok;
           }
         } else {
           std::fill(spec_ok_.begin(), spec_ok_.end(), std::uint8_t{0});
+          if (first) std::fill(spec_saturated_.begin(), spec_saturated_.end(), std::uint8_t{0});
           if (failure == SolveStatus::ok) failure = status;
           if (here) ++(status == SolveStatus::singular ? here->singular : here->invalid);
         }

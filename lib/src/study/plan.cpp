@@ -76,6 +76,8 @@ namespace detail {
 namespace {
 
 constexpr double nan = std::numeric_limits<double>::quiet_NaN();
+// 20 log10(x) = (20 / ln 10) ln(x): glibc's log is several times faster than its log10.
+constexpr double db_per_neper = 8.6858896380650365530;
 
 bool same(const Excitation& a, const Excitation& b) {
   return a.sources_at_value == b.sources_at_value && a.opamp_errors == b.opamp_errors &&
@@ -685,7 +687,7 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
         const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
         values[i] = common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
                         ? std::numeric_limits<double>::infinity()
-                        : 20.0 * std::log10(signal / common);
+                        : db_per_neper * std::log(signal / common);
         break;
       }
       case MeasurementKind::node_voltage: values[i] = first.real(); break;

@@ -5,6 +5,7 @@
 #include <boost/random/sobol.hpp>
 #include <boost/random/uniform_int_distribution.hpp>
 
+#include "cpu_dispatch.hpp"
 #include "lotwise/error.hpp"
 #include "variation/spread.hpp"
 
@@ -104,7 +105,7 @@ void PeekEngine::seed(std::uint64_t value) {
   i_ = n;
 }
 
-void PeekEngine::refill() {
+LOTWISE_AVX2_CLONES void PeekEngine::refill() {
   constexpr std::size_t m = Engine::shift_size;
   constexpr std::uint64_t upper = ~std::uint64_t{0} << Engine::mask_bits;
   constexpr std::uint64_t lower = ~upper;
