@@ -121,13 +121,15 @@ def main() -> int:
 
     parts = {
         "sampling (draws, prepare, apply)": rate(g["BM_inamp_part_sampling"]),
-        "evaluate (fill, factor, 3 solves, measurements)": rate(g["BM_inamp_part_evaluate"]),
+        "evaluate one at a time (fill, factor, 3 solves, measurements)":
+            rate(g["BM_inamp_part_evaluate/lanes:0"]),
+        "evaluate 16 side by side (the same work)": rate(g["BM_inamp_part_evaluate/lanes:1"]),
     }
     print("\n== Where one in-amp sample's time goes (ns per sample)")
     for k, v in parts.items():
-        print(f"  {k:52s}{1e9 / v:8.1f}")
-    print(f"  {'whole Study::run, attribution off':52s}{1e9 / lw0:8.1f}")
-    print(f"  {'whole Study::run, attribution on':52s}{1e9 / lw1:8.1f}")
+        print(f"  {k:64s}{1e9 / v:8.1f}")
+    print(f"  {'whole Study::run, attribution off':64s}{1e9 / lw0:8.1f}")
+    print(f"  {'whole Study::run, attribution on':64s}{1e9 / lw1:8.1f}")
     dense = rate(g["BM_inamp_part_factor_solve/pattern:0"])
     pattern = rate(g["BM_inamp_part_factor_solve/pattern:1"])
     print(f"  factor + 3 solves: dense LU {1e9 / dense:.1f} ns, reused pattern "
@@ -155,7 +157,7 @@ def main() -> int:
 
     print("\n== Peak memory against sample count (in-amp, attribution on, no kept samples)")
     run_once = os.path.join(build_dir, "benchmarks", "lotwise_run_once")
-    counts = [10**5, 10**6] if a.quick else [10**5, 10**6, 10**7]
+    counts = [10**5, 10**6] if a.quick else [10**5, 10**6, 10**7, 10**8]
     figures["memory"] = []
     for n in counts:
         r = json.loads(sh([run_once, INAMP, str(n), "1", "1"]))

@@ -13,6 +13,9 @@ class RunningStats {
  public:
   void add(double x);
   void merge(const RunningStats& other);
+  /// The statistics of n values at once, in two passes (the mean, then the centred
+  /// squares): the state add() would reach, up to rounding, with no division per value.
+  static RunningStats of(const double* values, std::size_t n);
 
   std::uint64_t count() const { return count_; }          ///< finite values
   std::uint64_t non_finite() const { return non_finite_; }  ///< +-inf and NaN values

@@ -22,6 +22,32 @@ void RunningStats::add(double x) {
   max_ = x > max_ ? x : max_;
 }
 
+RunningStats RunningStats::of(const double* values, std::size_t n) {
+  RunningStats r;
+  double sum = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const double x = values[i];
+    if (!std::isfinite(x)) {
+      ++r.non_finite_;
+      if (std::isnan(x)) continue;
+    } else {
+      ++r.count_;
+      sum += x;
+    }
+    r.min_ = x < r.min_ ? x : r.min_;
+    r.max_ = x > r.max_ ? x : r.max_;
+  }
+  if (r.count_ == 0) return r;
+  r.mean_ = sum / static_cast<double>(r.count_);
+  double m2 = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const double x = values[i];
+    if (std::isfinite(x)) m2 += (x - r.mean_) * (x - r.mean_);
+  }
+  r.m2_ = m2;
+  return r;
+}
+
 void RunningStats::merge(const RunningStats& other) {
   non_finite_ += other.non_finite_;
   min_ = other.min_ < min_ ? other.min_ : min_;

@@ -23,6 +23,8 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
       spec_ok_(shape.specs),
       spec_saturated_(shape.specs),
       point_(study.model.dimension()) {
+  entered_.resize(shape.measurements);
+  for (auto& e : entered_) e.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations);
   for (std::size_t r = 0; r < Evaluator::lanes * shape.evaluations; ++r) {
     theta_.insert(theta_.end(), study.nominal_parameters.begin(), study.nominal_parameters.end());
   }
@@ -92,6 +94,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   }
 
   attribution_rows_.clear();
+  for (auto& e : entered_) e.clear();
   constexpr std::size_t lanes = Evaluator::lanes;
   const std::size_t p_count = s.nominal_parameters.size();
   const double* thetas[lanes];
@@ -183,7 +186,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
               if (pilot) tally.pilot.push_back(values[m]);
               continue;
             }
-            tally.builds.stats[m].add(values[m]);
+            entered_[m].push_back(values[m]);
             if (here) here->stats[m].add(values[m]);
             if (lot_stats) lot_stats->stats[m].add(values[m]);
             if (!tally.histograms.empty()) tally.histograms[m].add(values[m]);
@@ -243,6 +246,9 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
       tally.builds.passed += pass;
       if (o.keep_samples) tally.pass.push_back(pass);
     }
+  }
+  for (std::size_t m = 0; m < m_count; ++m) {
+    tally.builds.stats[m] = RunningStats::of(entered_[m].data(), entered_[m].size());
   }
   if (a_count > 0) attribution_moments(tally, a_count, m_count);
   return tally;

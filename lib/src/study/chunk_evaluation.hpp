@@ -38,6 +38,9 @@ class ChunkEvaluator {
   std::vector<SolveStatus> status_;
   std::vector<unsigned char> withheld_;
   std::vector<unsigned char> any_saturated_;
+  // Per measurement, the chunk's values that entered the statistics, reduced in two
+  // passes at the chunk's end (no division per value, unlike RunningStats::add).
+  std::vector<std::vector<double>> entered_;
   std::vector<std::uint8_t> spec_ok_;
   std::vector<std::uint8_t> spec_saturated_;
   // Builds per lot: the lot coordinates, the current lot's values of them, and the point
