@@ -6,6 +6,8 @@
 
 #include <boost/math/distributions/normal.hpp>
 
+#include "cpu_dispatch.hpp"
+
 namespace lotwise::detail {
 
 ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& options,
@@ -215,12 +217,15 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         if (a_count > 0) {
           // One row per evaluation; the chunk's attribution moments come from the rows at
           // its end. A value that did not enter the statistics enters no co-moment (NaN).
-          for (std::size_t a = 0; a < a_count; ++a) attribution_rows_.push_back(theta[varied[a]]);
+          const std::size_t at = attribution_rows_.size();
+          attribution_rows_.resize(at + a_count + m_count + 1);  // within the reserve
+          double* out = attribution_rows_.data() + at;
+          for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[varied[a]];
           for (std::size_t m = 0; m < m_count; ++m) {
             const bool entered = status == SolveStatus::ok && !withheld[m];
-            attribution_rows_.push_back(entered ? values[m] : std::numeric_limits<double>::quiet_NaN());
+            out[a_count + m] = entered ? values[m] : std::numeric_limits<double>::quiet_NaN();
           }
-          attribution_rows_.push_back(ok_here ? 1.0 : 0.0);
+          out[a_count + m_count] = ok_here ? 1.0 : 0.0;
         }
         if (o.keep_samples) {
           tally.values.insert(tally.values.end(), values, values + m_count);
@@ -254,9 +259,54 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   return tally;
 }
 
+// The common case of the pairs below: every measurement entered in every row. Their
+// parameter means and centred squares are then those just computed over all rows, and
+// one pass gives every measurement's co-moments, each parameter's deviation taken once
+// per row. The same operations in the same order as the general loop, so the same bits.
+LOTWISE_AVX2_CLONES bool ChunkEvaluator::pairs_on_every_row(ChunkTally& tally, std::size_t a_count,
+                                        std::size_t m_count, const double* mean,
+                                        const double* m2x) const {
+  const std::size_t stride = a_count + m_count + 1;
+  const std::size_t rows = attribution_rows_.size() / stride;
+  const double* data = attribution_rows_.data();
+  if (rows == 0) return false;
+  std::vector<double>& scratch = pair_scratch_;
+  scratch.assign(2 * m_count + m_count * a_count + a_count, 0.0);
+  double* my = scratch.data();
+  double* m2y = my + m_count;
+  double* __restrict cxy = m2y + m_count;  // the parts of the scratch never overlap
+  double* __restrict dx = cxy + m_count * a_count;
+  for (std::size_t r = 0; r < rows; ++r) {
+    const double* row = data + r * stride;
+    for (std::size_t m = 0; m < m_count; ++m) {
+      if (!std::isfinite(row[a_count + m])) return false;
+      my[m] += row[a_count + m];
+    }
+  }
+  const double n = static_cast<double>(rows);
+  for (std::size_t m = 0; m < m_count; ++m) my[m] /= n;
+  for (std::size_t r = 0; r < rows; ++r) {
+    const double* row = data + r * stride;
+    for (std::size_t a = 0; a < a_count; ++a) dx[a] = row[a] - mean[a];
+    for (std::size_t m = 0; m < m_count; ++m) {
+      const double dy = row[a_count + m] - my[m];
+      m2y[m] += dy * dy;
+      double* __restrict c = cxy + m * a_count;
+      for (std::size_t a = 0; a < a_count; ++a) c[a] += dx[a] * dy;
+    }
+  }
+  for (std::size_t m = 0; m < m_count; ++m) {
+    for (std::size_t a = 0; a < a_count; ++a) {
+      tally.pairs[m * a_count + a] =
+          PairMoments{n, mean[a], my[m], m2x[a], m2y[m], cxy[m * a_count + a]};
+    }
+  }
+  return true;
+}
+
 // Two passes over the chunk's rows (means, then centred sums): no division per sample,
 // unlike one Welford update per pair, and the same numbers on any thread count.
-void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
+LOTWISE_AVX2_CLONES void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
                                          std::size_t m_count) const {
   const std::size_t stride = a_count + m_count + 1;
   const std::size_t rows = attribution_rows_.size() / stride;
@@ -265,19 +315,20 @@ void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
   // but for draws outside the physical range; such a chunk takes the careful path.
   bool finite = true;
   for (std::size_t r = 0; r < rows; ++r) {
-    for (std::size_t a = 0; a < a_count; ++a) finite = finite && std::isfinite(data[r * stride + a]);
+    for (std::size_t a = 0; a < a_count; ++a) finite &= std::isfinite(data[r * stride + a]);
   }
   if (finite) {
     std::vector<double>& acc = parameter_scratch_;  // 8 per parameter
     std::fill(acc.begin(), acc.end(), 0.0);
-    double* sum = acc.data();
-    double* sum_f = sum + a_count;
-    double* m2 = sum + 2 * a_count;
-    double* m2_f = sum + 3 * a_count;
-    double* low = sum + 4 * a_count;
-    double* high = sum + 5 * a_count;
-    double* low_f = sum + 6 * a_count;
-    double* high_f = sum + 7 * a_count;
+    // Eight disjoint parts of one array (restrict: so the loops vectorise).
+    double* __restrict sum = acc.data();
+    double* __restrict sum_f = sum + a_count;
+    double* __restrict m2 = sum + 2 * a_count;
+    double* __restrict m2_f = sum + 3 * a_count;
+    double* __restrict low = sum + 4 * a_count;
+    double* __restrict high = sum + 5 * a_count;
+    double* __restrict low_f = sum + 6 * a_count;
+    double* __restrict high_f = sum + 7 * a_count;
     const double inf = std::numeric_limits<double>::infinity();
     std::fill(low, low + a_count, inf);
     std::fill(low_f, low_f + a_count, inf);
@@ -315,6 +366,7 @@ void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
       tally.parameter_failing[a] = RunningStats::from_state(
           RunningStats::State{failing, 0, failing > 0 ? sum_f[a] : 0.0, m2_f[a], low_f[a], high_f[a]});
     }
+    if (pairs_on_every_row(tally, a_count, m_count, sum, m2)) return;
   }
   for (std::size_t a = 0; a < a_count && !finite; ++a) {
     for (const bool failing_only : {false, true}) {

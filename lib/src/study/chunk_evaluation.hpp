@@ -55,6 +55,9 @@ class ChunkEvaluator {
   mutable std::vector<double> moment_scratch_;
   mutable std::vector<double> parameter_scratch_;
   void attribution_moments(ChunkTally& tally, std::size_t a_count, std::size_t m_count) const;
+  bool pairs_on_every_row(ChunkTally& tally, std::size_t a_count, std::size_t m_count,
+                          const double* mean, const double* m2x) const;
+  mutable std::vector<double> pair_scratch_;
 };
 
 }  // namespace lotwise::detail
