@@ -70,6 +70,7 @@ struct StatisticsSettings {
   std::string sampler;
   std::uint32_t replicates = 0;
   std::uint64_t builds_per_lot = 0;
+  bool no_attribution = false;
   bool worst_case = false;
   std::vector<std::string> nominal_axes;    ///< "PATTERN=v1,v2,..."
   std::vector<std::string> tolerance_axes;  ///< "PATTERN=t1,t2,..."
@@ -93,6 +94,7 @@ lotwise::RunOptions options_for(const lotwise::Study& study, const CLI::App& cmd
       cmd.count("--tolerance-digits") ? stats.tolerance_digits : defaults.tolerance_digits;
   options.builds_per_lot =
       cmd.count("--builds-per-lot") ? stats.builds_per_lot : defaults.builds_per_lot;
+  options.attribution = !stats.no_attribution;
   options.confidence = cmd.count("--confidence") ? stats.confidence : defaults.confidence;
   options.target_half_width =
       cmd.count("--target-half-width") ? stats.target_half_width : defaults.target_half_width;
@@ -268,6 +270,9 @@ int main(int argc, char** argv) {
                     "Builds made from one lot (reel) of parts, sharing its lot deviations; adds "
                     "within-lot Cp and Cpk beside the overall Pp and Ppk")
         ->check(CLI::Range(std::uint64_t{1}, std::numeric_limits<std::uint64_t>::max()));
+    cmd->add_flag("--no-attribution", stats.no_attribution,
+                  "Skip the sensitivity and failure attribution: a quarter to a third less time "
+                  "per build; the yield and statistics are the same");
   };
   add_statistics(run);
   run->add_flag("--worst-case", stats.worst_case,

@@ -201,6 +201,25 @@ TEST_CASE("cli: the report is byte-identical on one and two threads", "[cli]") {
   CHECK(text != lotwise::testing::read_text(other));
 }
 
+TEST_CASE("cli: --no-attribution drops only the attribution", "[cli]") {
+  ScratchDir dir;
+  const std::string with = dir.file("with.json");
+  const std::string without = dir.file("without.json");
+  const std::string design = example_path("load_cell_amp_1pct.toml");
+  REQUIRE(lotwise_cli({"run", design, "-n", "3000", "-q", "-r", with}, dir).status == 0);
+  const auto r = lotwise_cli({"run", design, "-n", "3000", "--no-attribution", "-q", "-r", without}, dir);
+  INFO("stderr: " << r.err);
+  REQUIRE(r.status == 0);
+  auto a = nlohmann::json::parse(lotwise::testing::read_text(with));
+  auto b = nlohmann::json::parse(lotwise::testing::read_text(without));
+  CHECK(a.contains("attribution"));
+  CHECK_FALSE(b.contains("attribution"));
+  // Everything else is the same run.
+  CHECK(a.at("yield") == b.at("yield"));
+  CHECK(a.at("measurements") == b.at("measurements"));
+  CHECK(a.at("specs") == b.at("specs"));
+}
+
 TEST_CASE("cli: --require-yield sets the exit status", "[cli]") {
   ScratchDir dir;
   // 1 % resistors against a +-0.5 % gain window: far below 99.9 %.
