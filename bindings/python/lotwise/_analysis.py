@@ -124,18 +124,17 @@ class WorstCaseResult:
 
     def sensitivities_frame(self) -> "Any":
         """Sensitivities at nominal (pandas), measurements by parameters."""
-        pd = pandas()
-        names = [p.name for p in self.parameters]
-        rows = [[m.sensitivities[n] for n in names] for m in self.measurements.values()]
-        return pd.DataFrame(rows,
-                            index=pd.Index(list(self.measurements), name="measurement"),
-                            columns=pd.Index(names, name="parameter"))
+        return self._by_parameter("sensitivities")
 
     def variance_shares_frame(self) -> "Any":
         """Each parameter's share of each measurement's first-order variance (pandas)."""
+        return self._by_parameter("variance_shares")
+
+    def _by_parameter(self, field: str) -> "Any":
+        # One per-parameter mapping of every measurement, as measurements by parameters.
         pd = pandas()
         names = [p.name for p in self.parameters]
-        rows = [[m.variance_shares[n] for n in names] for m in self.measurements.values()]
+        rows = [[getattr(m, field)[n] for n in names] for m in self.measurements.values()]
         return pd.DataFrame(rows,
                             index=pd.Index(list(self.measurements), name="measurement"),
                             columns=pd.Index(names, name="parameter"))

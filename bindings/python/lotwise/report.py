@@ -26,6 +26,7 @@ from typing import Any, Dict, List, Mapping, Optional, Sequence, Tuple, Union
 import numpy as np
 
 from ._core import Error
+from ._frames import pandas
 
 __all__ = [
     "Attribution",
@@ -329,7 +330,7 @@ class Sweep:
 
     def table(self, method: str = "clopper_pearson") -> "Any":
         """One row per point: the axis settings, samples, passed, yield and its interval."""
-        pd = _pandas()
+        pd = pandas()
         rows = []
         for p in self.points:
             row: Dict[str, Any] = {a.label: v for a, v in zip(self.axes, p.settings)}
@@ -390,7 +391,7 @@ class Report:
 
     def spec_table(self) -> "Any":
         """One row per spec: limits, pass count and fraction, intervals, capability, normal fit."""
-        pd = _pandas()
+        pd = pandas()
         rows = []
         for s in self.specs:
             row: Dict[str, Any] = {
@@ -416,7 +417,7 @@ class Report:
 
     def measurement_table(self) -> "Any":
         """One row per measurement, indexed by name: moments, extremes, coverage, quantiles."""
-        pd = _pandas()
+        pd = pandas()
         rows = []
         for m in self.measurements:
             row: Dict[str, Any] = {
@@ -438,7 +439,7 @@ class Report:
 
     def histogram_table(self, measurement: str) -> "Any":
         """The coarse histogram of ``measurement``: bin edges and counts, one row per bin."""
-        pd = _pandas()
+        pd = pandas()
         m = self.measurement(measurement)
         h = None if m.distribution is None else m.distribution.histogram
         if h is None or h.counts is None:
@@ -448,7 +449,7 @@ class Report:
 
     def attribution_table(self) -> "Any":
         """One row per varied parameter: correlation with each measurement, failure shift/spread."""
-        pd = _pandas()
+        pd = pandas()
         a = self._need(self.attribution, "attribution")
         data: Dict[str, Any] = {f"correlation {m}": c for m, c in a.correlations.items()}
         data["failure_shift"] = a.failure_shift
@@ -458,7 +459,7 @@ class Report:
 
     def sensitivity_table(self) -> "Any":
         """Worst case: one row per (measurement, parameter) with sensitivity and RSS share."""
-        pd = _pandas()
+        pd = pandas()
         w = self._need(self.worst_case, "worst_case")
         rows = []
         for m in w.measurements:
@@ -469,7 +470,7 @@ class Report:
 
     def worst_case_table(self) -> "Any":
         """Worst case: one row per measurement with EVA, linear, RSS and corner extremes."""
-        pd = _pandas()
+        pd = pandas()
         w = self._need(self.worst_case, "worst_case")
         rows = []
         for m in w.measurements:
@@ -488,7 +489,7 @@ class Report:
 
     def temperature_table(self) -> "Any":
         """One row per operating temperature: yield, interval and each spec's fraction."""
-        pd = _pandas()
+        pd = pandas()
         temps = self._need(self.temperatures, "temperatures")
         rows = []
         for t in temps:
@@ -967,13 +968,3 @@ def _kind(value: Any) -> str:
     if isinstance(value, Mapping):
         return "an object"
     return type(value).__name__
-
-
-def _pandas() -> Any:
-    try:
-        import pandas
-    except ImportError as e:  # pragma: no cover - depends on the environment
-        raise ImportError(
-            "lotwise's report tables need pandas: pip install pandas"
-        ) from e
-    return pandas

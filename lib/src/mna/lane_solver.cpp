@@ -23,7 +23,7 @@ bool contains(const std::vector<std::size_t>& sorted, std::size_t p) {
 
 LaneSolver::LaneSolver(const Network& network, const std::vector<double>& nominal,
                        const std::vector<std::size_t>& changing)
-    : layout_(network.layout()), changing_(changing), scale_(L) {
+    : layout_(network.layout()), changing_(changing) {
   const auto& params = layout_.circuit.parameters();
   if (nominal.size() != params.size()) throw Error("internal: LaneSolver needs every nominal value");
   std::sort(changing_.begin(), changing_.end());
@@ -43,7 +43,7 @@ LaneSolver::LaneSolver(const Network& network, const std::vector<double>& nomina
   for (const auto& o : layout_.opamps) {
     if (contains(changing_, o.high) || contains(changing_, o.headroom_high) ||
         contains(changing_, o.low) || contains(changing_, o.headroom_low)) {
-      limits_.push_back(Limits{o.high, o.headroom_high, o.low, o.headroom_low});
+      limits_.push_back(&o);
     }
   }
 }
@@ -51,48 +51,25 @@ LaneSolver::LaneSolver(const Network& network, const std::vector<double>& nomina
 template <typename T>
 void LaneSolver::compile_rhs(LaneAnalysis<T>& lanes, const std::vector<Excitation>& excitations,
                              const unsigned char* held_row) const {
-  // The operations of Network's fill_rhs, in its order, with every choice made here.
+  // Network's right-hand-side rules (visit_rhs), in their order, each choice made once.
   const std::size_t count = excitations.size();
   const auto& lu = lanes.pattern->lu;
   for (std::size_t e = 0; e < count; ++e) {
-    const Excitation& ex = excitations[e];
     auto at = [&](std::size_t row) {
       return static_cast<std::uint32_t>((lu.step_of_row(row) * count + e) * L);
     };
-    for (const auto& s : layout_.sources) {
-      bool constant = !ex.sources_at_value;
-      double value = 0.0;
-      for (const auto& o : ex.overrides) {
-        if (o.first == s.element) {
-          constant = true;
-          value = o.second;
-        }
-      }
-      if (constant) {
-        lanes.rhs.push_back(RhsOp{RhsOp::add_constant, at(s.row), 0,
-                                  s.sign * value});
-      } else {
-        lanes.rhs.push_back(RhsOp{RhsOp::add_parameter, at(s.row),
-                                  static_cast<std::uint32_t>(s.p), s.sign});
-      }
-    }
-    if (ex.opamp_errors) {
-      for (const auto& s : layout_.errors) {
-        if (held_row && held_row[s.row]) continue;
-        lanes.rhs.push_back(RhsOp{RhsOp::add_parameter, at(s.row),
-                                  static_cast<std::uint32_t>(s.p), s.sign});
-      }
-    }
-    if (held_row) {
-      for (const auto& level : ex.output_levels) {
-        const std::size_t i = level.first < layout_.opamp_of_element.size()
-                                  ? layout_.opamp_of_element[level.first]
-                                  : npos;
-        if (i == npos || !held_row[layout_.opamps[i].branch]) continue;
-        lanes.rhs.push_back(RhsOp{RhsOp::set_constant, at(layout_.opamps[i].branch), 0,
-                                  level.second});
-      }
-    }
+    visit_rhs(
+        layout_, excitations[e], held_row,
+        [&](std::size_t row, std::size_t p, double sign) {
+          lanes.rhs.push_back(
+              RhsOp{RhsOp::add_parameter, at(row), static_cast<std::uint32_t>(p), sign});
+        },
+        [&](std::size_t row, double value) {
+          lanes.rhs.push_back(RhsOp{RhsOp::add_constant, at(row), 0, value});
+        },
+        [&](std::size_t row, double level) {
+          lanes.rhs.push_back(RhsOp{RhsOp::set_constant, at(row), 0, level});
+        });
   }
 }
 
@@ -177,18 +154,11 @@ void LaneSolver::check(unsigned char* ok) const {
     }
   }
   for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0.0 ? 1 : 0;
-  // As Network's limits_of: a swing that has closed up is out of range.
-  for (const Limits& o : limits_) {
+  // A swing that has closed up is out of range, as in Network::check_values.
+  for (const OpAmpOutput* o : limits_) {
     for (std::size_t l = 0; l < L; ++l) {
-      double high = inf, low = -inf;
-      if (o.high != npos) {
-        high = theta_[o.high * L + l] -
-               (o.headroom_high != npos ? theta_[o.headroom_high * L + l] : 0.0);
-      }
-      if (o.low != npos) {
-        low = theta_[o.low * L + l] + (o.headroom_low != npos ? theta_[o.headroom_low * L + l] : 0.0);
-      }
-      if (!(high > low)) ok[l] = 0;
+      const OutputLimits lim = limits_of(*o, [&](std::size_t p) { return theta_[p * L + l]; });
+      if (!(lim.high > lim.low)) ok[l] = 0;
     }
   }
 }
@@ -223,7 +193,7 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
     }
   }
   // The dense path's singularity scale, n eps max |a_ij|, per lane.
-  double* scale2 = scale_.data();
+  double scale2[L];
   // The maximum is exact and NaN never enters it, so taking the constants' part once
   // gives the same value as a pass over every entry.
   for (std::size_t l = 0; l < L; ++l) scale2[l] = lanes.constant_scale2;

@@ -79,9 +79,6 @@ class LaneSolver {
   const std::complex<double>* ac(std::size_t a, std::size_t e, std::size_t i) const;
 
  private:
-  struct Limits {
-    std::size_t high, headroom_high, low, headroom_low;
-  };
   template <typename T>
   void compile_rhs(LaneAnalysis<T>& lanes, const std::vector<Excitation>& excitations,
                    const unsigned char* held_row) const;
@@ -94,12 +91,11 @@ class LaneSolver {
   bool usable_ = true;
   std::vector<std::size_t> changing_;
   std::vector<unsigned char> positive_;  ///< per changing parameter
-  std::vector<Limits> limits_;           ///< op-amps whose output limits can change
+  std::vector<const OpAmpOutput*> limits_;  ///< op-amps whose output limits can change
   std::vector<double> theta_;            ///< parameters x lanes
   std::vector<std::pair<bool, std::size_t>> analyses_;  ///< (AC, index into dc_ or ac_)
   std::vector<LaneAnalysis<double>> dc_;
   std::vector<LaneAnalysis<std::complex<double>>> ac_;
-  std::vector<double> scale_;  ///< per lane
 };
 
 }  // namespace lotwise::detail

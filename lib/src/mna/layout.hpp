@@ -5,6 +5,7 @@
 #include <complex>
 #include <cstddef>
 #include <cstdint>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -65,6 +66,18 @@ struct OpAmpOutput {
 }  // namespace lotwise::detail
 
 namespace lotwise::detail {
+
+/// An op-amp's output limits from its parameters, `value(p)` giving parameter p (one
+/// rule for the one-at-a-time path and for the lanes).
+template <typename Value>
+OutputLimits limits_of(const OpAmpOutput& o, Value value) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  constexpr std::size_t npos = static_cast<std::size_t>(-1);
+  OutputLimits l{-inf, inf};
+  if (o.high != npos) l.high = value(o.high) - (o.headroom_high != npos ? value(o.headroom_high) : 0.0);
+  if (o.low != npos) l.low = value(o.low) + (o.headroom_low != npos ? value(o.headroom_low) : 0.0);
+  return l;
+}
 
 /// How to refill a PatternLU's values from a parameter vector: a copy of the constant
 /// entries, then one pass per kind of term, each a flat list (no switch per entry).
@@ -140,6 +153,46 @@ struct NetworkWorkspace::Data {
 };
 
 namespace detail {
+/// The terms of an excitation's right-hand side, in the order they are added:
+/// add_parameter(row, p, sign) for sign * theta[p], add_constant(row, c) and, for held
+/// op-amp outputs (`held` marks their branch rows; nullptr for none),
+/// set_constant(row, level). Network fills right-hand sides from it one at a time and the
+/// lane solver compiles it once.
+template <typename AddParameter, typename AddConstant, typename SetConstant>
+void visit_rhs(const Network::Layout& L, const Excitation& ex, const unsigned char* held,
+               AddParameter add_parameter, AddConstant add_constant, SetConstant set_constant) {
+  constexpr std::size_t npos = static_cast<std::size_t>(-1);
+  for (const auto& s : L.sources) {
+    bool constant = !ex.sources_at_value;
+    double value = 0.0;
+    for (const auto& o : ex.overrides) {
+      if (o.first == s.element) {
+        constant = true;
+        value = o.second;
+      }
+    }
+    if (constant) {
+      add_constant(s.row, s.sign * value);
+    } else {
+      add_parameter(s.row, s.p, s.sign);
+    }
+  }
+  if (ex.opamp_errors) {
+    for (const auto& s : L.errors) {
+      if (held && held[s.row]) continue;
+      add_parameter(s.row, s.p, s.sign);
+    }
+  }
+  if (held) {
+    for (const auto& level : ex.output_levels) {
+      const std::size_t i =
+          level.first < L.opamp_of_element.size() ? L.opamp_of_element[level.first] : npos;
+      if (i == npos || !held[L.opamps[i].branch]) continue;
+      set_constant(L.opamps[i].branch, level.second);
+    }
+  }
+}
+
 /// Checks that every node has a DC path to ground and that no loop is made of
 /// voltage-defined branches only; throws CircuitError naming what is wrong.
 void check_topology(const Circuit& circuit);

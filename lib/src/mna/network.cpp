@@ -271,15 +271,7 @@ NetworkWorkspace Network::make_workspace(std::size_t slots) const {
 namespace {
 
 OutputLimits limits_of(const detail::OpAmpOutput& o, const double* theta) {
-  constexpr double inf = std::numeric_limits<double>::infinity();
-  OutputLimits l{-inf, inf};
-  if (o.high != Network::npos) {
-    l.high = theta[o.high] - (o.headroom_high != Network::npos ? theta[o.headroom_high] : 0.0);
-  }
-  if (o.low != Network::npos) {
-    l.low = theta[o.low] + (o.headroom_low != Network::npos ? theta[o.headroom_low] : 0.0);
-  }
-  return l;
+  return detail::limits_of(o, [theta](std::size_t p) { return theta[p]; });
 }
 
 }  // namespace
@@ -562,27 +554,11 @@ template <typename T>
 void fill_rhs(const Network::Layout& L, const double* theta, const Excitation& ex, T* rhs,
               const unsigned char* held) {
   std::fill(rhs, rhs + L.size, T(0));
-  for (const auto& s : L.sources) {
-    double value = ex.sources_at_value ? theta[s.p] : 0.0;
-    for (const auto& o : ex.overrides) {
-      if (o.first == s.element) value = o.second;
-    }
-    rhs[s.row] += s.sign * value;
-  }
-  if (ex.opamp_errors) {
-    for (const auto& s : L.errors) {
-      if (held && held[s.row]) continue;
-      rhs[s.row] += s.sign * theta[s.p];
-    }
-  }
-  if (held) {
-    for (const auto& level : ex.output_levels) {
-      const std::size_t i =
-          level.first < L.opamp_of_element.size() ? L.opamp_of_element[level.first] : Network::npos;
-      if (i == Network::npos || !held[L.opamps[i].branch]) continue;
-      rhs[L.opamps[i].branch] = level.second;
-    }
-  }
+  detail::visit_rhs(
+      L, ex, held,
+      [&](std::size_t row, std::size_t p, double sign) { rhs[row] += sign * theta[p]; },
+      [&](std::size_t row, double value) { rhs[row] += value; },
+      [&](std::size_t row, double level) { rhs[row] = level; });
 }
 
 }  // namespace
@@ -614,44 +590,45 @@ const std::complex<double>* Network::solve_ac(const double* parameters,
   return column.data();
 }
 
+namespace {
+
+// Every excitation of an analysis, solved in one pass over the factors: the reused
+// pattern's when the last factorisation used it, else the dense one's.
+template <typename Pattern, typename DenseLu, typename Block>
+void solve_excitations(const Network::Layout& L, const double* theta, const Excitation* excitations,
+                       std::size_t count, const unsigned char* held,
+                       std::vector<Pattern>& patterns, std::size_t active, const DenseLu& lu,
+                       Block& rhs, Block& x, const char* what) {
+  if (count > static_cast<std::size_t>(x.cols())) {
+    throw Error(std::string(what) + ": " + std::to_string(count) + " excitations but room for " +
+                std::to_string(x.cols()));
+  }
+  for (std::size_t e = 0; e < count; ++e) {
+    fill_rhs(L, theta, excitations[e], rhs.col(static_cast<Eigen::Index>(e)).data(), held);
+  }
+  const auto n = static_cast<std::size_t>(L.size);
+  if (active != Network::npos) {
+    patterns[active].lu.solve_block(rhs.data(), n, x.data(), n, count);
+  } else if (n > 0) {
+    const auto c = static_cast<Eigen::Index>(count);
+    x.leftCols(c).noalias() = lu.solve(rhs.leftCols(c));
+  }
+}
+
+}  // namespace
+
 void Network::solve_dc(const double* parameters, const Excitation* excitations, std::size_t count,
                        NetworkWorkspace& ws) const {
   auto& d = ws.data();
-  if (count > static_cast<std::size_t>(d.x.cols())) {
-    throw Error("solve_dc: " + std::to_string(count) + " excitations but room for " +
-                std::to_string(d.x.cols()));
-  }
-  for (std::size_t e = 0; e < count; ++e) {
-    double* rhs = d.rhs_block.col(static_cast<Eigen::Index>(e)).data();
-    fill_rhs(*layout_, parameters, excitations[e], rhs, d.held_row.data());
-  }
-  const auto n = static_cast<std::size_t>(layout_->size);
-  if (d.dc_active != npos) {
-    d.dc_patterns[d.dc_active].lu.solve_block(d.rhs_block.data(), n, d.x.data(), n, count);
-  } else if (n > 0) {
-    const auto c = static_cast<Eigen::Index>(count);
-    d.x.leftCols(c).noalias() = d.lu.solve(d.rhs_block.leftCols(c));
-  }
+  solve_excitations(*layout_, parameters, excitations, count, d.held_row.data(), d.dc_patterns,
+                    d.dc_active, d.lu, d.rhs_block, d.x, "solve_dc");
 }
 
 void Network::solve_ac(const double* parameters, const Excitation* excitations, std::size_t count,
                        NetworkWorkspace& ws) const {
   auto& d = ws.data();
-  if (count > static_cast<std::size_t>(d.ac_x.cols())) {
-    throw Error("solve_ac: " + std::to_string(count) + " excitations but room for " +
-                std::to_string(d.ac_x.cols()));
-  }
-  for (std::size_t e = 0; e < count; ++e) {
-    fill_rhs(*layout_, parameters, excitations[e],
-             d.ac_rhs_block.col(static_cast<Eigen::Index>(e)).data(), nullptr);
-  }
-  const auto n = static_cast<std::size_t>(layout_->size);
-  if (d.ac_active != npos) {
-    d.ac_patterns[d.ac_active].lu.solve_block(d.ac_rhs_block.data(), n, d.ac_x.data(), n, count);
-  } else if (n > 0) {
-    const auto c = static_cast<Eigen::Index>(count);
-    d.ac_x.leftCols(c).noalias() = d.ac_lu.solve(d.ac_rhs_block.leftCols(c));
-  }
+  solve_excitations(*layout_, parameters, excitations, count, nullptr, d.ac_patterns, d.ac_active,
+                    d.ac_lu, d.ac_rhs_block, d.ac_x, "solve_ac");
 }
 
 std::string Network::diagnose_singular(const double* parameters, double frequency,
