@@ -1,21 +1,31 @@
 #pragma once
-// Private: the few operations the lane solver applies to L values side by side. The
-// restrict-qualified pointers tell the compiler the lanes of different slots never
-// overlap, so each loop becomes a handful of vector instructions; the arithmetic per
-// lane is the scalar one, in the same order.
+// Private: the few operations the lane solver applies to L values side by side. Each
+// does, lane by lane, exactly the scalar operation of the one-at-a-time path, so results
+// are bit-identical. For real lanes under GCC and Clang they are written on explicit
+// vectors of four doubles (the compilers' vector extension): left to itself, the compiler
+// unrolls the short lane loops into scalar code in some contexts instead of vectorising
+// them. The operations stay element-wise IEEE ones, with no fused multiply-add, so the
+// bits do not depend on the vector width. Other compilers and complex lanes use loops.
+#include <algorithm>
+#include <complex>
 #include <cstddef>
+#include <cstdint>
+#include <limits>
 
 namespace lotwise::detail {
+
+/// |x|^2 without a square root (complex) and |x|^2 for real x.
+inline double magnitude2(double x) { return x * x; }
+inline double magnitude2(const std::complex<double>& x) {
+  return x.real() * x.real() + x.imag() * x.imag();
+}
+
+// ---- any lane type, as loops ---------------------------------------------------------
 
 // `value` by value: a reference could alias `out`, which keeps the stores scalar.
 template <std::size_t L, typename T>
 inline void lanes_set(T* __restrict out, const T value) {
   for (std::size_t l = 0; l < L; ++l) out[l] = value;
-}
-
-template <std::size_t L, typename T>
-inline void lanes_copy(T* __restrict out, const T* __restrict in) {
-  for (std::size_t l = 0; l < L; ++l) out[l] = in[l];
 }
 
 /// out -= a * b
@@ -35,5 +45,172 @@ template <std::size_t L, typename T>
 inline void lanes_add_scaled(T* __restrict out, double factor, const double* __restrict x) {
   for (std::size_t l = 0; l < L; ++l) out[l] += factor * x[l];
 }
+
+/// out += value
+template <std::size_t L, typename T>
+inline void lanes_add(T* __restrict out, const double value) {
+  for (std::size_t l = 0; l < L; ++l) out[l] += value;
+}
+
+/// out = 1 / x
+template <std::size_t L, typename T>
+inline void lanes_reciprocal(T* __restrict out, const T* __restrict x) {
+  for (std::size_t l = 0; l < L; ++l) out[l] = T(1) / x[l];
+}
+
+/// out = max(out, |x|^2) (a NaN never enters)
+template <std::size_t L, typename T>
+inline void lanes_max_magnitude2(double* __restrict out, const T* __restrict x) {
+  for (std::size_t l = 0; l < L; ++l) out[l] = std::max(out[l], magnitude2(x[l]));
+}
+
+/// Clears good[l] (an all-ones or zero mask) where pivot p[l] fails PatternLU::factor()'s
+/// check: |p|^2 above tiny2, at least u2 col2, finite; a NaN fails.
+template <std::size_t L, typename T>
+inline void lanes_check_pivot(std::int64_t* __restrict good, const T* __restrict p,
+                              const double* __restrict tiny2, const double* __restrict col2,
+                              double u2) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  for (std::size_t l = 0; l < L; ++l) {
+    const double p2 = magnitude2(p[l]);
+    good[l] &= ((p2 > tiny2[l]) & (p2 >= u2 * col2[l]) & (p2 < inf)) ? std::int64_t(-1)
+                                                                      : std::int64_t(0);
+  }
+}
+
+#if !defined(__GNUC__)
+
+/// Clears good[l] where v[l] is not above `above` or not finite; a NaN fails.
+template <std::size_t L>
+inline void lanes_check_range(std::int64_t* __restrict good, const double* __restrict v,
+                              double above) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  for (std::size_t l = 0; l < L; ++l) {
+    good[l] &= ((v[l] > above) & (v[l] < inf)) ? std::int64_t(-1) : std::int64_t(0);
+  }
+}
+
+#else
+
+// ---- real lanes, four at a time --------------------------------------------------------
+
+typedef double Pack __attribute__((vector_size(32)));
+typedef std::int64_t PackMask __attribute__((vector_size(32)));
+constexpr std::size_t pack_width = 4;
+
+// Unaligned loads and stores, one vector move each. Vectors pass by reference: by
+// value their ABI would depend on whether AVX is enabled.
+inline void pack_load(Pack& x, const double* p) { __builtin_memcpy(&x, p, sizeof x); }
+inline void pack_store(double* p, const Pack& x) { __builtin_memcpy(p, &x, sizeof x); }
+inline void mask_load(PackMask& x, const std::int64_t* p) { __builtin_memcpy(&x, p, sizeof x); }
+inline void mask_store(std::int64_t* p, const PackMask& x) { __builtin_memcpy(p, &x, sizeof x); }
+
+template <std::size_t L>
+inline void lanes_set(double* __restrict out, const double value) {
+  static_assert(L % pack_width == 0, "lanes come in whole vectors");
+  const Pack v = {value, value, value, value};
+  for (std::size_t l = 0; l < L; l += pack_width) pack_store(out + l, v);
+}
+
+template <std::size_t L>
+inline void lanes_sub_product(double* __restrict out, const double* __restrict a,
+                              const double* __restrict b) {
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack o, x, y;
+    pack_load(o, out + l);
+    pack_load(x, a + l);
+    pack_load(y, b + l);
+    pack_store(out + l, o - x * y);
+  }
+}
+
+template <std::size_t L>
+inline void lanes_scale(double* __restrict out, const double* __restrict f) {
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack o, x;
+    pack_load(o, out + l);
+    pack_load(x, f + l);
+    pack_store(out + l, o * x);
+  }
+}
+
+template <std::size_t L>
+inline void lanes_add_scaled(double* __restrict out, double factor, const double* __restrict x) {
+  const Pack f = {factor, factor, factor, factor};
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack o, y;
+    pack_load(o, out + l);
+    pack_load(y, x + l);
+    pack_store(out + l, o + f * y);
+  }
+}
+
+template <std::size_t L>
+inline void lanes_add(double* __restrict out, const double value) {
+  const Pack v = {value, value, value, value};
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack o;
+    pack_load(o, out + l);
+    pack_store(out + l, o + v);
+  }
+}
+
+template <std::size_t L>
+inline void lanes_reciprocal(double* __restrict out, const double* __restrict x) {
+  const Pack one = {1.0, 1.0, 1.0, 1.0};
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack y;
+    pack_load(y, x + l);
+    pack_store(out + l, one / y);
+  }
+}
+
+template <std::size_t L>
+inline void lanes_max_magnitude2(double* __restrict out, const double* __restrict x) {
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    // std::max(a, b) is (a < b) ? b : a, here by mask.
+    Pack a, v;
+    pack_load(a, out + l);
+    pack_load(v, x + l);
+    const Pack b = v * v;
+    const PackMask take_b = a < b;
+    pack_store(out + l, (Pack)(((PackMask)b & take_b) | ((PackMask)a & ~take_b)));
+  }
+}
+
+template <std::size_t L>
+inline void lanes_check_pivot(std::int64_t* __restrict good, const double* __restrict p,
+                              const double* __restrict tiny2, const double* __restrict col2,
+                              double u2) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  const Pack u = {u2, u2, u2, u2}, top = {inf, inf, inf, inf};
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack v, t, c;
+    PackMask g;
+    pack_load(v, p + l);
+    pack_load(t, tiny2 + l);
+    pack_load(c, col2 + l);
+    mask_load(g, good + l);
+    const Pack p2 = v * v;
+    mask_store(good + l, g & ((p2 > t) & (p2 >= u * c) & (p2 < top)));
+  }
+}
+
+/// Clears good[l] where v[l] is not above `above` or not finite; a NaN fails.
+template <std::size_t L>
+inline void lanes_check_range(std::int64_t* __restrict good, const double* __restrict v,
+                              double above) {
+  constexpr double inf = std::numeric_limits<double>::infinity();
+  const Pack low = {above, above, above, above}, top = {inf, inf, inf, inf};
+  for (std::size_t l = 0; l < L; l += pack_width) {
+    Pack x;
+    PackMask g;
+    pack_load(x, v + l);
+    mask_load(g, good + l);
+    mask_store(good + l, g & ((x > low) & (x < top)));
+  }
+}
+
+#endif
 
 }  // namespace lotwise::detail

@@ -32,6 +32,7 @@ LaneSolver::LaneSolver(const Network& network, const std::vector<double>& nomina
     if (p >= params.size()) throw Error("internal: LaneSolver given an unknown parameter");
     positive_.push_back(params[p].positive ? 1 : 0);
   }
+  nominal_ = nominal;
   theta_.resize(params.size() * L);
   for (std::size_t p = 0; p < params.size(); ++p) {
     std::fill(theta_.begin() + static_cast<std::ptrdiff_t>(p * L),
@@ -54,52 +55,97 @@ void LaneSolver::compile_rhs(LaneAnalysis<T>& lanes, const std::vector<Excitatio
   // Network's right-hand-side rules (visit_rhs), in their order, each choice made once.
   const std::size_t count = excitations.size();
   const auto& lu = lanes.pattern->lu;
+  // Rows the solve never reads are left out.
   for (std::size_t e = 0; e < count; ++e) {
     auto at = [&](std::size_t row) {
       return static_cast<std::uint32_t>((lu.step_of_row(row) * count + e) * L);
     };
+    auto read = [&](std::size_t row) { return lanes.schedule.reads_step(lu.step_of_row(row)); };
     visit_rhs(
         layout_, excitations[e], held_row,
         [&](std::size_t row, std::size_t p, double sign) {
+          if (!read(row)) return;
           lanes.rhs.push_back(
               RhsOp{RhsOp::add_parameter, at(row), static_cast<std::uint32_t>(p), sign});
         },
         [&](std::size_t row, double value) {
-          lanes.rhs.push_back(RhsOp{RhsOp::add_constant, at(row), 0, value});
+          if (read(row)) lanes.rhs.push_back(RhsOp{RhsOp::add_constant, at(row), 0, value});
         },
         [&](std::size_t row, double level) {
-          lanes.rhs.push_back(RhsOp{RhsOp::set_constant, at(row), 0, level});
+          if (read(row)) lanes.rhs.push_back(RhsOp{RhsOp::set_constant, at(row), 0, level});
         });
   }
 }
 
 void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
                               const std::vector<std::size_t>& held,
-                              const std::vector<Excitation>& excitations) {
+                              const std::vector<Excitation>& excitations,
+                              const std::vector<std::size_t>& read) {
   auto& d = ws.data();
   const std::size_t n = layout_.size;
   auto shape = [&](auto& lanes) {
+    using T = typename std::decay_t<decltype(lanes.values)>::value_type;
     const auto& lu = lanes.pattern->lu;
+    const auto& fill = lanes.pattern->fill;
     lanes.frequency = frequency;
     lanes.excitations = excitations.size();
-    lanes.values.resize(lu.nonzeros() * L);
-    lanes.inverse.resize(n * L);
-    lanes.reciprocal.resize(lanes.pattern->fill.inverse.size() * L);
-    // Which slots vary and which must be refilled (see LaneAnalysis).
-    const auto& fill = lanes.pattern->fill;
-    std::vector<unsigned char> varies(lu.nonzeros(), 0), written(lu.nonzeros(), 0);
-    for (const auto* terms : {&fill.real_reciprocal, &fill.real_value, &fill.imag_value,
-                              &fill.imag_reciprocal}) {
-      for (const auto& t : *terms) varies[t.slot] = 1;
-    }
-    for (const auto s : lu.written_slots()) written[s] = 1;
+    // A slot changes between loads when a term on a changing parameter adds to it.
+    std::vector<unsigned char> varies(lu.nonzeros(), 0);
+    auto mark = [&](const std::vector<FillTerm>& terms, bool reciprocal) {
+      for (const auto& t : terms) {
+        if (contains(changing_, reciprocal ? fill.inverse[t.index] : t.index)) varies[t.slot] = 1;
+      }
+    };
+    mark(fill.real_reciprocal, true);
+    mark(fill.real_value, false);
+    mark(fill.imag_value, false);
+    mark(fill.imag_reciprocal, true);
+    // Every term of a changing slot is added per load, in the fill's order (so the sums
+    // round as in the one-at-a-time fill); the other slots start filled at nominal.
+    std::vector<T> start(lu.nonzeros());
+    std::vector<double> r(fill.inverse.size());
+    fill_values(fill, nominal_.data(), frequency, start.data(), r.data());
+    std::vector<std::uint32_t> index_of(fill.inverse.size(), 0);
+    std::vector<unsigned char> indexed(fill.inverse.size(), 0);
+    auto keep = [&](const std::vector<FillTerm>& from, std::vector<FillTerm>& to, bool reciprocal) {
+      for (FillTerm t : from) {
+        if (!varies[t.slot]) continue;
+        if (reciprocal) {
+          if (!indexed[t.index]) {
+            indexed[t.index] = 1;
+            index_of[t.index] = static_cast<std::uint32_t>(lanes.terms.inverse.size());
+            lanes.terms.inverse.push_back(fill.inverse[t.index]);
+          }
+          t.index = index_of[t.index];
+        }
+        to.push_back(t);
+      }
+    };
+    keep(fill.real_reciprocal, lanes.terms.real_reciprocal, true);
+    keep(fill.real_value, lanes.terms.real_value, false);
+    keep(fill.imag_value, lanes.terms.imag_value, false);
+    keep(fill.imag_reciprocal, lanes.terms.imag_reciprocal, true);
     for (std::size_t s = 0; s < lu.nonzeros(); ++s) {
-      if (varies[s]) lanes.varying.push_back(static_cast<std::uint32_t>(s));
-      if (varies[s] || written[s]) lanes.refill.push_back(static_cast<std::uint32_t>(s));
-      if (!varies[s]) lanes.constant_scale2 = std::max(lanes.constant_scale2, magnitude2(fill.constants[s]));
-      for (std::size_t l = 0; l < L; ++l) lanes.values[s * L + l] = fill.constants[s];
+      if (varies[s]) {
+        start[s] = fill.constants[s];
+        lanes.varying.push_back(static_cast<std::uint32_t>(s));
+      } else {
+        lanes.constant_scale2 = std::max(lanes.constant_scale2, magnitude2(start[s]));
+      }
     }
-    lanes.y.assign(excitations.size() * n * L, typename std::decay_t<decltype(lanes.y)>::value_type(0));
+    lanes.schedule = LaneSchedule<T>(lu, start, varies, read);
+    if (!lanes.schedule.usable()) usable_ = false;
+    const auto& initial = lanes.schedule.initial();
+    lanes.values.resize(lu.nonzeros() * L);
+    for (std::size_t s = 0; s < lu.nonzeros(); ++s) lanes_set<L>(&lanes.values[s * L], initial[s]);
+    const auto& inverse = lanes.schedule.initial_inverse();
+    lanes.inverse.resize(n * L);
+    for (std::size_t k = 0; k < n; ++k) lanes_set<L>(&lanes.inverse[k * L], inverse[k]);
+    lanes.reciprocal.resize(lanes.terms.inverse.size() * L);
+    for (std::size_t k = 0; k < n; ++k) {
+      if (lanes.schedule.reads_step(k)) lanes.rows.push_back(static_cast<std::uint32_t>(k));
+    }
+    lanes.y.assign(excitations.size() * n * L, T(0));
   };
   if (frequency == 0.0) {
     const detail::Pattern<double>* found = nullptr;
@@ -132,28 +178,25 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
   }
 }
 
-void LaneSolver::load(const double* const* thetas, std::size_t count) {
+LOTWISE_AVX2_CLONES void LaneSolver::load(const double* const* thetas, std::size_t count) {
+  const double* from[L];
+  for (std::size_t l = 0; l < L; ++l) from[l] = thetas[l < count ? l : 0];
   for (const std::size_t p : changing_) {
     double* lanes = &theta_[p * L];
-    for (std::size_t l = 0; l < L; ++l) lanes[l] = thetas[l < count ? l : 0][p];
+    for (std::size_t l = 0; l < L; ++l) lanes[l] = from[l][p];
   }
 }
 
-void LaneSolver::check(unsigned char* ok) const {
+LOTWISE_AVX2_CLONES void LaneSolver::check(unsigned char* ok) const {
   // In range: finite, and above 0 where only positive values are physical; as masks,
   // without branches (a NaN fails both comparisons).
   constexpr double inf = std::numeric_limits<double>::infinity();
-  double good[L];
-  for (std::size_t l = 0; l < L; ++l) good[l] = 1.0;
+  std::int64_t good[L];
+  lanes_set<L>(good, std::int64_t(-1));
   for (std::size_t k = 0; k < changing_.size(); ++k) {
-    const double* __restrict v = &theta_[changing_[k] * L];
-    const double above = positive_[k] != 0 ? 0.0 : -inf;
-    for (std::size_t l = 0; l < L; ++l) {
-      const double in = (v[l] > above && v[l] < inf) ? 1.0 : 0.0;
-      good[l] = std::min(good[l], in);
-    }
+    lanes_check_range<L>(good, &theta_[changing_[k] * L], positive_[k] != 0 ? 0.0 : -inf);
   }
-  for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0.0 ? 1 : 0;
+  for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0 ? 1 : 0;
   // A swing that has closed up is out of range, as in Network::check_values.
   for (const OpAmpOutput* o : limits_) {
     for (std::size_t l = 0; l < L; ++l) {
@@ -165,15 +208,15 @@ void LaneSolver::check(unsigned char* ok) const {
 
 template <typename T>
 void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
-  // The fill of Network's factor_pattern, per lane.
-  const auto& f = lanes.pattern->fill;
+  // The fill of Network's factor_pattern, per lane, on the slots that change.
+  const auto& f = lanes.terms;
+  const auto& schedule = lanes.schedule;
   T* v = lanes.values.data();
-  for (const std::uint32_t s : lanes.refill) lanes_set<L>(v + s * L, f.constants[s]);
+  const T* initial = schedule.initial().data();
+  for (const std::uint32_t s : schedule.refill()) lanes_set<L>(v + s * L, initial[s]);
   double* r = lanes.reciprocal.data();
   for (std::size_t k = 0; k < f.inverse.size(); ++k) {
-    const double* __restrict p = &theta_[f.inverse[k] * L];
-    double* __restrict out = r + k * L;
-    for (std::size_t l = 0; l < L; ++l) out[l] = 1.0 / p[l];
+    lanes_reciprocal<L>(r + k * L, &theta_[f.inverse[k] * L]);
   }
   for (const auto& t : f.real_reciprocal) lanes_add_scaled<L>(v + t.slot * L, t.factor, r + t.index * L);
   for (const auto& t : f.real_value) {
@@ -197,33 +240,32 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   // The maximum is exact and NaN never enters it, so taking the constants' part once
   // gives the same value as a pass over every entry.
   for (std::size_t l = 0; l < L; ++l) scale2[l] = lanes.constant_scale2;
-  for (const std::uint32_t s : lanes.varying) {
-    for (std::size_t l = 0; l < L; ++l) scale2[l] = std::max(scale2[l], magnitude2(v[s * L + l]));
-  }
+  for (const std::uint32_t s : lanes.varying) lanes_max_magnitude2<L>(scale2, v + s * L);
   const auto& lu = lanes.pattern->lu;
   const double n_eps = static_cast<double>(lu.size()) * std::numeric_limits<double>::epsilon();
   double tiny[L];
   for (std::size_t l = 0; l < L; ++l) tiny[l] = n_eps * std::sqrt(scale2[l]);
-  lu.template factor_lanes<L>(v, lanes.inverse.data(), tiny, ok);
+  schedule.template factor<L>(v, lanes.inverse.data(), tiny, ok);
 
-  // The right-hand sides, in step order, then one pass of triangular solves for all.
+  // The right-hand sides the solve reads, in step order, then one pass of triangular
+  // solves for all. The last solve left its solutions in y: clear those rows first (a
+  // loop of vector stores; a call to memset costs more at this size).
   T* y = lanes.y.data();
-  // The last solve left its solutions in y: clear it (a loop of vector stores; a call
-  // to memset costs more at this size).
-  for (std::size_t i = 0; i < lanes.y.size(); i += L) lanes_set<L>(y + i, T(0));
+  const std::size_t width = lanes.excitations * L;
+  for (const std::uint32_t k : lanes.rows) {
+    for (std::size_t i = 0; i < width; i += L) lanes_set<L>(y + k * width + i, T(0));
+  }
   for (const RhsOp& op : lanes.rhs) {
     T* row = y + op.offset;
     switch (op.kind) {
       case RhsOp::add_parameter:
         lanes_add_scaled<L>(row, op.value, theta_.data() + static_cast<std::size_t>(op.parameter) * L);
         break;
-      case RhsOp::add_constant:
-        for (std::size_t l = 0; l < L; ++l) row[l] += op.value;
-        break;
+      case RhsOp::add_constant: lanes_add<L>(row, op.value); break;
       case RhsOp::set_constant: lanes_set<L>(row, T(op.value)); break;
     }
   }
-  lu.template solve_lanes<L>(v, lanes.inverse.data(), y, lanes.excitations);
+  schedule.template solve<L>(v, lanes.inverse.data(), y, lanes.excitations);
 }
 
 LOTWISE_AVX2_CLONES void LaneSolver::run_dc(LaneAnalysis<double>& lanes, unsigned char* ok) {

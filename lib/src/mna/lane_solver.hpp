@@ -13,6 +13,7 @@
 
 #include "lotwise/network.hpp"
 #include "mna/lane_count.hpp"
+#include "mna/lane_schedule.hpp"
 #include "mna/layout.hpp"
 
 namespace lotwise::detail {
@@ -28,19 +29,22 @@ struct RhsOp {
 template <typename T>
 struct LaneAnalysis {
   const Pattern<T>* pattern = nullptr;
+  LaneSchedule<T> schedule;
   double frequency = 0.0;
   std::size_t excitations = 0;
   std::vector<RhsOp> rhs;                ///< every excitation's operations, in order
+  /// The fill's terms on the slots that change between loads (every term of such a
+  /// slot, in the fill's order); the others are part of the schedule's constants.
+  /// Reciprocal terms index `inverse`.
+  PatternFill<T> terms;
   std::vector<T> values;                 ///< nonzeros x lanes
-  /// Slots refilled with their constant before each factorisation: those the terms add
-  /// to or the factorisation writes. The others hold their constant from the start.
-  std::vector<std::uint32_t> refill;
-  /// Slots the terms add to, and the largest |constant|^2 of the others: the matrix's
+  /// Slots the terms add to, and the largest |value|^2 of the others: the matrix's
   /// largest entry (for the singularity test) is the larger of the two maxima.
   std::vector<std::uint32_t> varying;
   double constant_scale2 = 0.0;
-  std::vector<T> inverse;                ///< size x lanes
-  std::vector<double> reciprocal;        ///< the fill's reciprocals, x lanes
+  std::vector<T> inverse;                ///< pivot inverses, size x lanes
+  std::vector<double> reciprocal;        ///< the terms' reciprocals, x lanes
+  std::vector<std::uint32_t> rows;       ///< steps whose right-hand sides the solve reads
   std::vector<T> y;  ///< right-hand sides, then solutions: [step][excitation][lane]
 };
 
@@ -57,11 +61,13 @@ class LaneSolver {
   bool usable() const { return usable_; }
 
   /// Adds the next analysis: a DC one with `held` op-amp outputs, or an AC one at
-  /// `frequency`, each solved for `excitations`. Needs the pattern prepared in `ws`
-  /// (Network::prepare_dc / prepare_ac); without one the solver becomes unusable.
-  /// `ws` must outlive the solver and not be prepared again.
+  /// `frequency`, each solved for `excitations`, of which the unknowns `read` will be
+  /// read. Needs the pattern prepared in `ws` (Network::prepare_dc / prepare_ac);
+  /// without one the solver becomes unusable. `ws` must outlive the solver and not be
+  /// prepared again.
   void add_analysis(NetworkWorkspace& ws, double frequency, const std::vector<std::size_t>& held,
-                    const std::vector<Excitation>& excitations);
+                    const std::vector<Excitation>& excitations,
+                    const std::vector<std::size_t>& read);
 
   /// Takes the changing parameters of `count` (1..L) vectors; lanes past `count` repeat
   /// the first.
@@ -74,7 +80,8 @@ class LaneSolver {
   /// pivot is poor for lane l (that lane must be evaluated one at a time).
   void solve(std::size_t a, unsigned char* ok);
 
-  /// After solve(a): the L lanes of unknown `i` of excitation `e`.
+  /// After solve(a): the L lanes of unknown `i` (one of the analysis' `read`) of
+  /// excitation `e`.
   const double* dc(std::size_t a, std::size_t e, std::size_t i) const;
   const std::complex<double>* ac(std::size_t a, std::size_t e, std::size_t i) const;
 
@@ -90,6 +97,7 @@ class LaneSolver {
   const Network::Layout& layout_;
   bool usable_ = true;
   std::vector<std::size_t> changing_;
+  std::vector<double> nominal_;          ///< every parameter
   std::vector<unsigned char> positive_;  ///< per changing parameter
   std::vector<const OpAmpOutput*> limits_;  ///< op-amps whose output limits can change
   std::vector<double> theta_;            ///< parameters x lanes

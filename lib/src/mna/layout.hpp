@@ -2,11 +2,13 @@
 // Private: the compiled MNA layout. Every matrix entry and right-hand-side term is a
 // stamp that reads one or two parameters; filling a matrix for a new parameter vector is
 // one pass over the stamp list, with no look-ups and no allocation.
+#include <algorithm>
 #include <complex>
 #include <cstddef>
 #include <cstdint>
 #include <limits>
 #include <string>
+#include <type_traits>
 #include <vector>
 
 #include <Eigen/Dense>
@@ -98,6 +100,25 @@ struct PatternFill {
   std::vector<FillTerm> imag_value;       ///< += j f factor * p (AC only)
   std::vector<FillTerm> imag_reciprocal;  ///< += j f factor / p (AC only)
 };
+
+/// Fills `v` (one value per slot) with the matrix of `theta` at `frequency` (ignored
+/// for DC): the constants, then each list of terms in order. `reciprocal` receives one
+/// value per f.inverse. The one fill rule of the one-at-a-time path and the lane solver.
+template <typename T>
+void fill_values(const PatternFill<T>& f, const double* theta, double frequency, T* v,
+                 double* reciprocal) {
+  std::copy(f.constants.begin(), f.constants.end(), v);
+  for (std::size_t k = 0; k < f.inverse.size(); ++k) reciprocal[k] = 1.0 / theta[f.inverse[k]];
+  const double* r = reciprocal;
+  for (const auto& t : f.real_reciprocal) v[t.slot] += t.factor * r[t.index];
+  for (const auto& t : f.real_value) v[t.slot] += t.factor * theta[t.index];
+  if constexpr (!std::is_same<T, double>::value) {
+    for (const auto& t : f.imag_value) v[t.slot] += T(0.0, frequency * t.factor * theta[t.index]);
+    for (const auto& t : f.imag_reciprocal) v[t.slot] += T(0.0, frequency * t.factor * r[t.index]);
+  } else {
+    (void)frequency;
+  }
+}
 
 /// A reusable factorisation of one kind of matrix: DC with a set of held outputs, or AC.
 template <typename T>

@@ -409,19 +409,8 @@ void compile_fill(const Network::Layout& L, const unsigned char* held_row,
 // Returns false when the pivot order does not suit this matrix (the dense path decides).
 template <typename T>
 bool factor_pattern(detail::Pattern<T>& pattern, const double* theta, double frequency) {
-  auto& f = pattern.fill;
   T* v = pattern.lu.values();
-  std::copy(f.constants.begin(), f.constants.end(), v);
-  for (std::size_t k = 0; k < f.inverse.size(); ++k) f.reciprocal[k] = 1.0 / theta[f.inverse[k]];
-  const double* r = f.reciprocal.data();
-  for (const auto& t : f.real_reciprocal) v[t.slot] += t.factor * r[t.index];
-  for (const auto& t : f.real_value) v[t.slot] += t.factor * theta[t.index];
-  if constexpr (!std::is_same<T, double>::value) {
-    for (const auto& t : f.imag_value) v[t.slot] += T(0.0, frequency * t.factor * theta[t.index]);
-    for (const auto& t : f.imag_reciprocal) v[t.slot] += T(0.0, frequency * t.factor * r[t.index]);
-  } else {
-    (void)frequency;
-  }
+  detail::fill_values(pattern.fill, theta, frequency, v, pattern.fill.reciprocal.data());
   // The dense path's singularity scale: n eps max |a_ij|.
   double scale2 = 0.0;
   const std::size_t nnz = pattern.lu.nonzeros();

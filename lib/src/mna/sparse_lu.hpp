@@ -17,13 +17,8 @@
 
 #include "mna/lane_ops.hpp"
 
-namespace lotwise::detail {
 
-/// |x|^2 without a square root (complex) and |x|^2 for real x.
-inline double magnitude2(double x) { return x * x; }
-inline double magnitude2(const std::complex<double>& x) {
-  return x.real() * x.real() + x.imag() * x.imag();
-}
+namespace lotwise::detail {
 
 /// Threshold for the choice of pivots on the nominal matrix: a candidate must be at
 /// least this fraction of the largest entry in its column (common practice: 0.1).
@@ -35,6 +30,9 @@ constexpr double pivot_check_threshold = 0.01;
 
 /// Outcome of one numeric factorisation.
 enum class PatternStatus { ok, poor_pivot };
+
+template <typename T>
+class LaneSchedule;
 
 template <typename T>
 class PatternLU {
@@ -228,100 +226,10 @@ class PatternLU {
     return PatternStatus::ok;
   }
 
-  /// As factor(), for L matrices of this pattern side by side: `v` holds nonzeros() x L
-  /// values (slot-major, the L lanes of a slot adjacent), `inverse` receives size() x L
-  /// inverse pivots. Each lane does exactly the arithmetic of factor(), in the same order,
-  /// so its results are bit-identical; a lane whose pivot check fails gets ok[lane] = 0
-  /// (its values are then spoiled) while the others go on. Allocates nothing.
-  template <std::size_t L>
-  void factor_lanes(T* v, T* inverse, const double* tiny, unsigned char* ok) const {
-    const double u2 = pivot_check_threshold * pivot_check_threshold;
-    constexpr double inf = std::numeric_limits<double>::infinity();
-    // The checks as all-ones / zero masks, combined without branches (vectorised).
-    std::int64_t good[L];
-    double tiny2[L];
-    for (std::size_t l = 0; l < L; ++l) {
-      good[l] = ok[l] ? -1 : 0;
-      tiny2[l] = tiny[l] * tiny[l];
-    }
-    for (std::size_t k = 0; k < n_; ++k) {
-      const T* p = v + static_cast<std::size_t>(pivot_[k]) * L;
-      double col2[L];
-      for (std::size_t l = 0; l < L; ++l) col2[l] = 0.0;
-      const Index lb = lower_begin_[k], le = lower_begin_[k + 1];
-      for (Index t = lb; t < le; ++t) {
-        const T* c = v + static_cast<std::size_t>(lower_slot_[t]) * L;
-        for (std::size_t l = 0; l < L; ++l) col2[l] = std::max(col2[l], magnitude2(c[l]));
-      }
-      for (std::size_t l = 0; l < L; ++l) {
-        // As factor(): a NaN anywhere fails.
-        const double p2 = magnitude2(p[l]);
-        good[l] &= -static_cast<std::int64_t>(p2 > tiny2[l]) &
-                   -static_cast<std::int64_t>(p2 >= u2 * col2[l]) &
-                   -static_cast<std::int64_t>(p2 < inf);
-      }
-      T* inv = inverse + k * L;
-      for (std::size_t l = 0; l < L; ++l) inv[l] = T(1) / p[l];
-      const Index ub = upper_begin_[k];
-      const Index width = upper_begin_[k + 1] - ub;
-      const Index* target = update_.data() + update_begin_[k];
-      for (Index t = lb; t < le; ++t) {
-        T* lower = v + static_cast<std::size_t>(lower_slot_[t]) * L;
-        lanes_scale<L>(lower, inv);
-        for (Index q = 0; q < width; ++q) {
-          lanes_sub_product<L>(v + static_cast<std::size_t>(target[q]) * L, lower,
-                               v + static_cast<std::size_t>(upper_slot_[ub + q]) * L);
-        }
-        target += width;
-      }
-    }
-    for (std::size_t l = 0; l < L; ++l) ok[l] = good[l] != 0 ? 1 : 0;
-  }
-
-  /// Slots the factorisation writes (multipliers and updated entries), sorted: the
-  /// others keep the values they were filled with.
-  std::vector<Index> written_slots() const {
-    std::vector<Index> out(lower_slot_);
-    out.insert(out.end(), update_.begin(), update_.end());
-    std::sort(out.begin(), out.end());
-    out.erase(std::unique(out.begin(), out.end()), out.end());
-    return out;
-  }
-
-  /// Elimination step of original row r (its right-hand side's place in solve_lanes)
+  /// Elimination step of original row r (its right-hand side's place in LaneSchedule::solve)
   /// and of unknown c (its solution's place).
   std::size_t step_of_row(std::size_t r) const { return step_of_row_[r]; }
   std::size_t step_of_col(std::size_t c) const { return step_of_col_[c]; }
-
-  /// As solve_block() for L factorisations side by side (from factor_lanes), in place:
-  /// `y` holds `count` right-hand sides in step order, [step][column][lane] (row r of
-  /// column c at (step_of_row(r) * count + c) * L), and receives the solutions in the
-  /// same order (unknown i of column c at (step_of_col(i) * count + c) * L). The same
-  /// arithmetic per lane as solve_block().
-  template <std::size_t L>
-  void solve_lanes(const T* v, const T* inverse, T* y, std::size_t count) const {
-    const std::size_t w = count * L;  // one step's values: count columns of L lanes
-    for (std::size_t k = 0; k < n_; ++k) {
-      const T* yk = y + k * w;
-      const Index le = lower_begin_[k + 1];
-      for (Index t = lower_begin_[k]; t < le; ++t) {
-        const T* f = v + static_cast<std::size_t>(lower_slot_[t]) * L;
-        T* ym = y + lower_step_[t] * w;
-        for (std::size_t c = 0; c < count; ++c) lanes_sub_product<L>(ym + c * L, f, yk + c * L);
-      }
-    }
-    for (std::size_t k = n_; k-- > 0;) {
-      T* yk = y + k * w;
-      const Index ue = upper_begin_[k + 1];
-      for (Index t = upper_begin_[k]; t < ue; ++t) {
-        const T* f = v + static_cast<std::size_t>(upper_slot_[t]) * L;
-        const T* ym = y + upper_step_[t] * w;
-        for (std::size_t c = 0; c < count; ++c) lanes_sub_product<L>(yk + c * L, f, ym + c * L);
-      }
-      const T* inv = inverse + k * L;
-      for (std::size_t c = 0; c < count; ++c) lanes_scale<L>(yk + c * L, inv);
-    }
-  }
 
   /// Room for solving `columns` right-hand sides at once (solve_block); allocates.
   void reserve_columns(std::size_t columns) {
@@ -366,6 +274,8 @@ class PatternLU {
   }
 
  private:
+  template <typename> friend class LaneSchedule;  // reads the schedule to narrow it
+
   // C > 0: exactly C columns (unrolled); C == 0: `count` columns.
   template <std::size_t C, typename In, typename Out>
   void solve_columns(const In* b, std::size_t ldb, Out* x, std::size_t ldx, std::size_t count) {

@@ -536,8 +536,15 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
     changing = &all;
   }
   auto solver = std::make_unique<LaneSolver>(network, nominal, *changing);
-  for (const Analysis& analysis : plan.analyses) {
-    solver->add_analysis(workspace_, analysis.frequency, analysis.held, analysis.excitations);
+  for (std::size_t a = 0; a < plan.analyses.size(); ++a) {
+    const Analysis& analysis = plan.analyses[a];
+    std::vector<std::size_t> read;  // the unknowns the probes of this analysis read
+    for (const Probe& probe : plan.probes) {
+      if (probe.analysis != a) continue;
+      if (probe.plus != Network::npos) read.push_back(probe.plus);
+      if (probe.minus != Network::npos) read.push_back(probe.minus);
+    }
+    solver->add_analysis(workspace_, analysis.frequency, analysis.held, analysis.excitations, read);
   }
   if (solver->usable()) lane_solver_ = std::move(solver);
 }

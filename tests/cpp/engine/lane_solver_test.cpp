@@ -61,13 +61,25 @@ TEST_CASE("lanes solve random networks bit for bit as one at a time", "[fast][la
     const std::vector<Excitation> dc_set = {at_value, drive};
     const std::vector<Excitation> held_set = {held_level};
     const std::vector<Excitation> ac_set = {drive};
-    std::vector<std::size_t> all(theta0.size());
-    for (std::size_t p = 0; p < all.size(); ++p) all[p] = p;
-    detail::LaneSolver lanes(network, theta0, all);
-    lanes.add_analysis(ws, 0.0, {}, dc_set);
-    lanes.add_analysis(ws, 2e4, {}, ac_set);  // another frequency than the pattern's
-    lanes.add_analysis(ws, 0.0, {held_opamp}, held_set);
+    // Every other network varies only some of its parameters (the others are constants
+    // the lanes fold in once), and reads only some unknowns of the AC and held solves
+    // (the lanes solve for those alone).
+    const bool narrowed = networks % 2 == 0;
+    std::vector<std::size_t> changing, all_unknowns(network.size()), some_unknowns;
+    for (std::size_t p = 0; p < theta0.size(); ++p) {
+      if (!narrowed || rng() % 2 == 0) changing.push_back(p);
+    }
+    for (std::size_t i = 0; i < network.size(); ++i) {
+      all_unknowns[i] = i;
+      if (!narrowed || rng() % 3 == 0) some_unknowns.push_back(i);
+    }
+    detail::LaneSolver lanes(network, theta0, changing);
+    lanes.add_analysis(ws, 0.0, {}, dc_set, all_unknowns);
+    lanes.add_analysis(ws, 2e4, {}, ac_set, some_unknowns);  // another frequency than the pattern's
+    lanes.add_analysis(ws, 0.0, {held_opamp}, held_set, some_unknowns);
     REQUIRE(lanes.usable());
+    std::vector<unsigned char> is_changing(theta0.size(), 0);
+    for (const std::size_t p : changing) is_changing[p] = 1;
 
     for (int block = 0; block < 12; ++block) {
       const std::size_t count = 1 + static_cast<std::size_t>(block) % L;
@@ -76,7 +88,11 @@ TEST_CASE("lanes solve random networks bit for bit as one at a time", "[fast][la
         // Tolerance-sized spreads, values moved by up to 10^6 (some reused pivots turn
         // poor), and now and then a resistor out of range.
         thetas.push_back(moved(c, rng, (l % 3 == 2) ? 1e6 : 1.3));
-        if (l == 4 && block % 2 == 0) thetas.back()[c.elements()[1].parameters.front()] = -1.0;
+        for (std::size_t p = 0; p < theta0.size(); ++p) {
+          if (!is_changing[p]) thetas.back()[p] = theta0[p];
+        }
+        const std::size_t r1 = c.elements()[1].parameters.front();
+        if (l == 4 && block % 2 == 0 && is_changing[r1]) thetas.back()[r1] = -1.0;
       }
       std::vector<const double*> pointers;
       for (const auto& t : thetas) pointers.push_back(t.data());
@@ -121,7 +137,7 @@ TEST_CASE("lanes solve random networks bit for bit as one at a time", "[fast][la
         REQUIRE(static_cast<bool>(ok_ac[l]) == (d.ac_active != Network::npos));
         if (ok_ac[l]) {
           network.solve_ac(theta, ac_set.data(), 1, ws);
-          for (std::size_t i = 0; i < network.size(); ++i) {
+          for (const std::size_t i : some_unknowns) {
             REQUIRE(same_bits(lanes.ac(1, 0, i)[l], d.ac_x(static_cast<Eigen::Index>(i), 0)));
           }
         }
@@ -130,7 +146,7 @@ TEST_CASE("lanes solve random networks bit for bit as one at a time", "[fast][la
         REQUIRE(static_cast<bool>(ok_held[l]) == (d.dc_active != Network::npos));
         if (ok_held[l]) {
           network.solve_dc(theta, held_set.data(), 1, ws);
-          for (std::size_t i = 0; i < network.size(); ++i) {
+          for (const std::size_t i : some_unknowns) {
             REQUIRE(same_bits(lanes.dc(2, 0, i)[l], d.x(static_cast<Eigen::Index>(i), 0)));
           }
         }
@@ -168,7 +184,7 @@ TEST_CASE("evaluate_lanes gives every example design's values bit for bit", "[fa
       "antialias_lowpass", "bridge_stage_discrete", "bridge_stage_network", "load_cell_amp_01pct",
       "load_cell_amp_1pct", "over_temperature_trip", "sump_pump_level_switch"};
   std::mt19937_64 rng(4242);
-  int compared = 0, saturated = 0, failed = 0;
+  int compared = 0, compared_narrowed = 0, saturated = 0, failed = 0;
   for (const std::string& name : designs) {
     INFO(name);
     const Study study(load_design(std::string(LOTWISE_EXAMPLES_DIR) + "/" + name + ".toml"));
@@ -176,6 +192,21 @@ TEST_CASE("evaluate_lanes gives every example design's values bit for bit", "[fa
     detail::Evaluator lanes(study.network(), plan);
     detail::Evaluator single(study.network(), plan);
     REQUIRE(lanes.uses_lanes());
+    // As a run uses it: only the design's varied parameters change, the rest are
+    // constants folded in once.
+    const auto& params = study.network().circuit().parameters();
+    std::vector<std::size_t> varied;
+    for (const std::string& v : study.varied_parameters()) {
+      for (std::size_t p = 0; p < params.size(); ++p) {
+        if (params[p].name == v) varied.push_back(p);
+      }
+    }
+    REQUIRE(!varied.empty());
+    std::vector<unsigned char> is_varied(params.size(), 0);
+    for (const std::size_t p : varied) is_varied[p] = 1;
+    detail::Evaluator narrowed(study.network(), plan, &varied);
+    const std::vector<double> nominal_theta = study.nominal_parameters();
+    REQUIRE(narrowed.uses_lanes());
     const std::size_t m = plan.measurements.size();
     for (int block = 0; block < 40; ++block) {
       const std::size_t count = 1 + static_cast<std::size_t>(block) % L;
@@ -187,7 +218,6 @@ TEST_CASE("evaluate_lanes gives every example design's values bit for bit", "[fa
       }
       if (count > 2 && block % 5 == 0) {
         // A part out of range in one lane: that lane alone reports it.
-        const auto& params = study.network().circuit().parameters();
         for (std::size_t p = 0; p < params.size(); ++p) {
           if (params[p].positive) {
             thetas[2][p] = 0.0;
@@ -214,11 +244,30 @@ TEST_CASE("evaluate_lanes gives every example design's values bit for bit", "[fa
         saturated += single.any_saturated();
         failed += status != SolveStatus::ok;
       }
+      // The same builds with only the varied parameters moved, through `narrowed`.
+      for (auto& theta : thetas) {
+        for (std::size_t p = 0; p < params.size(); ++p) {
+          if (!is_varied[p]) theta[p] = nominal_theta[p];
+        }
+      }
+      narrowed.evaluate_lanes(in.data(), out.data(), statuses, count);
+      for (std::size_t l = 0; l < count; ++l) {
+        std::vector<double> want(m);
+        const SolveStatus status = single.evaluate(thetas[l].data(), want.data());
+        REQUIRE(statuses[l] == status);
+        for (std::size_t i = 0; i < m; ++i) {
+          REQUIRE(same_bits(values[l][i], want[i]));
+          REQUIRE(narrowed.saturated_lane(l)[i] == single.saturated()[i]);
+        }
+        REQUIRE(narrowed.saturated_opamp_lane(l) == single.saturated_opamp());
+        ++compared_narrowed;
+      }
     }
   }
   std::size_t lanes_per_design = 0;  // 40 blocks of 1..L lanes
   for (std::size_t block = 0; block < 40; ++block) lanes_per_design += 1 + block % L;
   CHECK(compared == static_cast<int>(7 * lanes_per_design));
+  CHECK(compared_narrowed == compared);
   CHECK(saturated > 0);
   CHECK(failed > 0);
 }
