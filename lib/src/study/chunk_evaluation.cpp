@@ -103,6 +103,8 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   double* value_rows[lanes];
   SolveStatus statuses[lanes];
   points_.start(o.seed, k, range.replicate, range.begin, static_cast<std::size_t>(range.count));
+  // Values straight from the point when they do not depend on the temperature.
+  const bool one_pass = evaluations == 1 && s.model.maps_in_one_pass();
   for (std::uint64_t t0 = 0; t0 < range.count; t0 += lanes) {
     const auto block = static_cast<std::size_t>(std::min<std::uint64_t>(lanes, range.count - t0));
     // Draw the block's builds in order: the same points as one build at a time.
@@ -127,14 +129,18 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) point_[lot_coordinates_[j]] = lot_values_[j];
         point = point_.data();
       }
-      s.model.prepare(point, builds_[b]);
+      if (one_pass) {
+        s.model.prepare_values(point, builds_[b], &theta_[b * p_count]);
+      } else {
+        s.model.prepare(point, builds_[b]);
+      }
     }
     // Evaluate each operating temperature of the block's builds side by side.
     for (std::size_t q = 0; q < evaluations; ++q) {
       for (std::size_t b = 0; b < block; ++b) {
         const std::size_t row = b * evaluations + q;
         double* theta = &theta_[row * p_count];
-        s.model.apply(builds_[b], s.model.temperature_of(builds_[b], q), theta);
+        if (!one_pass) s.model.apply(builds_[b], s.model.temperature_of(builds_[b], q), theta);
         thetas[b] = theta;
         value_rows[b] = &values_[row * m_count];
       }

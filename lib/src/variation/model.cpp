@@ -307,6 +307,17 @@ void VariationModel::plan_fast_paths() {
       (entry.relative_coefficient ? relative_ : absolute_).push_back(target);
     }
   }
+  // One pass from point to values when every entry is plain and constant over temperature.
+  if (correlated_.empty() && general_.empty() && summed_.empty() && relative_.empty() &&
+      absolute_.empty() && !constant_.empty()) {
+    for (const auto* terms : {&plain_normal_, &plain_uniform_}) {
+      for (const PlainTerm& t : *terms) {
+        const Entry& entry = entries_[t.entry];
+        (terms == &plain_normal_ ? value_normal_ : value_uniform_)
+            .push_back(PlainValue{t.coordinate, entry.parameter, entry.nominal, t.spread, t.scale});
+      }
+    }
+  }
 }
 
 BuildScratch VariationModel::make_scratch() const {
@@ -358,6 +369,19 @@ void VariationModel::prepare(const double* point, BuildScratch& s) const {
   }
   if (temperature_coordinate_ != npos) {
     s.temperature = temperature_.low + (temperature_.high - temperature_.low) * x[temperature_coordinate_];
+  }
+}
+
+void VariationModel::prepare_values(const double* point, BuildScratch& s, double* theta) const {
+  // prepare()'s plain terms and apply()'s nominal + deviation, the same operations.
+  for (const PlainValue& t : value_normal_) {
+    theta[t.parameter] = t.nominal + ((t.spread * point[t.coordinate]) * t.scale + 0.0);
+  }
+  for (const PlainValue& t : value_uniform_) {
+    theta[t.parameter] = t.nominal + ((t.spread * (2.0 * point[t.coordinate] - 1.0)) * t.scale + 0.0);
+  }
+  if (temperature_coordinate_ != npos) {
+    s.temperature = temperature_.low + (temperature_.high - temperature_.low) * point[temperature_coordinate_];
   }
 }
 

@@ -84,6 +84,15 @@ class VariationModel {
   /// nominal values elsewhere). Allocates nothing.
   void apply(const BuildScratch& s, double celsius, double* theta) const;
 
+  /// True when every covered parameter's value is nominal + one plain normal or uniform
+  /// term, uncorrelated and without a temperature coefficient: the values then do not
+  /// depend on the temperature and prepare_values() can map a point in one pass.
+  bool maps_in_one_pass() const { return !value_normal_.empty() || !value_uniform_.empty(); }
+  /// For a model that maps_in_one_pass(): prepare() and apply() in one pass over the terms,
+  /// writing the values straight into theta (the deviations are not kept in `s`). The same
+  /// bits as prepare() then apply().
+  void prepare_values(const double* point, BuildScratch& s, double* theta) const;
+
  private:
   std::size_t add_coordinate(bool normal, std::string name);
   void set_correlations(const Circuit& circuit, const std::vector<Correlation>& correlations,
@@ -130,6 +139,17 @@ class VariationModel {
   std::vector<Target> constant_;
   std::vector<Target> relative_;
   std::vector<Target> absolute_;
+  /// prepare_values(): the plain terms with their parameter and nominal value; empty
+  /// unless the model maps in one pass.
+  struct PlainValue {
+    std::size_t coordinate;
+    std::size_t parameter;
+    double nominal;
+    double spread;
+    double scale;
+  };
+  std::vector<PlainValue> value_normal_;
+  std::vector<PlainValue> value_uniform_;
 };
 
 }  // namespace lotwise::detail
