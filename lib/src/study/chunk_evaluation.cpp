@@ -265,104 +265,88 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   return tally;
 }
 
-// The common case of the pairs below: every measurement entered in every row. Their
-// parameter means and centred squares are then those just computed over all rows, and
-// one pass gives every measurement's co-moments, each parameter's deviation taken once
-// per row. The same operations in the same order as the general loop, so the same bits.
-LOTWISE_AVX2_CLONES bool ChunkEvaluator::pairs_on_every_row(ChunkTally& tally, std::size_t a_count,
-                                        std::size_t m_count, const double* mean,
-                                        const double* m2x) const {
+// Each chunk's attribution moments from its records (one row per evaluation: the varied
+// parameters, the measurements, NaN where one did not enter, and the pass flag). The
+// common case, every parameter finite and every measurement entered in every row, takes
+// two passes: sums, least and greatest values; then the centred squares and every
+// measurement's co-moments, each parameter's deviation taken once per row. Every
+// accumulator sums in row order with the general loops' operations, so the same bits.
+LOTWISE_AVX2_CLONES ChunkEvaluator::Written ChunkEvaluator::common_moments(
+    ChunkTally& tally, std::size_t a_count, std::size_t m_count) const {
   const std::size_t stride = a_count + m_count + 1;
   const std::size_t rows = attribution_rows_.size() / stride;
   const double* data = attribution_rows_.data();
-  if (rows == 0) return false;
-  std::vector<double>& scratch = pair_scratch_;
-  scratch.assign(2 * m_count + m_count * a_count + a_count, 0.0);
-  double* my = scratch.data();
-  double* m2y = my + m_count;
-  double* __restrict cxy = m2y + m_count;  // the parts of the scratch never overlap
+  std::vector<double>& acc = parameter_scratch_;  // 8 per parameter
+  std::fill(acc.begin(), acc.end(), 0.0);
+  // Eight disjoint parts of one array (restrict: so the loops vectorise).
+  double* __restrict sum = acc.data();
+  double* __restrict sum_f = sum + a_count;
+  double* __restrict m2 = sum + 2 * a_count;
+  double* __restrict m2_f = sum + 3 * a_count;
+  double* __restrict low = sum + 4 * a_count;
+  double* __restrict high = sum + 5 * a_count;
+  double* __restrict low_f = sum + 6 * a_count;
+  double* __restrict high_f = sum + 7 * a_count;
+  std::vector<double>& pair = pair_scratch_;  // the measurements' moments and co-moments
+  pair.assign(2 * m_count + m_count * a_count + a_count, 0.0);
+  double* __restrict my = pair.data();
+  double* __restrict m2y = my + m_count;
+  double* __restrict cxy = m2y + m_count;
   double* __restrict dx = cxy + m_count * a_count;
+  const double inf = std::numeric_limits<double>::infinity();
+  std::fill(low, low + a_count, inf);
+  std::fill(low_f, low_f + a_count, inf);
+  std::fill(high, high + a_count, -inf);
+  std::fill(high_f, high_f + a_count, -inf);
+  // Parameter values are finite but for draws outside the physical range; such a chunk
+  // takes the careful path below. A measurement that did not enter a row (NaN) sends the
+  // pairs to theirs.
+  // x * 0 is 0 for a finite x and NaN otherwise: summed, a test without a branch.
+  double parameter_check = 0.0, measurement_check = 0.0;
+  std::uint64_t failing = 0;
   for (std::size_t r = 0; r < rows; ++r) {
     const double* row = data + r * stride;
+    for (std::size_t a = 0; a < a_count; ++a) {
+      parameter_check += row[a] * 0.0;
+      sum[a] += row[a];
+      low[a] = std::min(low[a], row[a]);
+      high[a] = std::max(high[a], row[a]);
+    }
     for (std::size_t m = 0; m < m_count; ++m) {
-      if (!std::isfinite(row[a_count + m])) return false;
+      measurement_check += row[a_count + m] * 0.0;
       my[m] += row[a_count + m];
     }
-  }
-  const double n = static_cast<double>(rows);
-  for (std::size_t m = 0; m < m_count; ++m) my[m] /= n;
-  for (std::size_t r = 0; r < rows; ++r) {
-    const double* row = data + r * stride;
-    for (std::size_t a = 0; a < a_count; ++a) dx[a] = row[a] - mean[a];
-    for (std::size_t m = 0; m < m_count; ++m) {
-      const double dy = row[a_count + m] - my[m];
-      m2y[m] += dy * dy;
-      double* __restrict c = cxy + m * a_count;
-      for (std::size_t a = 0; a < a_count; ++a) c[a] += dx[a] * dy;
-    }
-  }
-  for (std::size_t m = 0; m < m_count; ++m) {
+    if (row[stride - 1] != 0.0) continue;
+    ++failing;
     for (std::size_t a = 0; a < a_count; ++a) {
-      tally.pairs[m * a_count + a] =
-          PairMoments{n, mean[a], my[m], m2x[a], m2y[m], cxy[m * a_count + a]};
+      sum_f[a] += row[a];
+      low_f[a] = std::min(low_f[a], row[a]);
+      high_f[a] = std::max(high_f[a], row[a]);
     }
   }
-  return true;
-}
-
-// Two passes over the chunk's rows (means, then centred sums): no division per sample,
-// unlike one Welford update per pair, and the same numbers on any thread count.
-LOTWISE_AVX2_CLONES void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
-                                         std::size_t m_count) const {
-  const std::size_t stride = a_count + m_count + 1;
-  const std::size_t rows = attribution_rows_.size() / stride;
-  const double* data = attribution_rows_.data();
-  // Each parameter over all rows and over the failing ones. Parameter values are finite
-  // but for draws outside the physical range; such a chunk takes the careful path.
-  bool finite = true;
-  for (std::size_t r = 0; r < rows; ++r) {
-    for (std::size_t a = 0; a < a_count; ++a) finite &= std::isfinite(data[r * stride + a]);
-  }
-  if (finite) {
-    std::vector<double>& acc = parameter_scratch_;  // 8 per parameter
-    std::fill(acc.begin(), acc.end(), 0.0);
-    // Eight disjoint parts of one array (restrict: so the loops vectorise).
-    double* __restrict sum = acc.data();
-    double* __restrict sum_f = sum + a_count;
-    double* __restrict m2 = sum + 2 * a_count;
-    double* __restrict m2_f = sum + 3 * a_count;
-    double* __restrict low = sum + 4 * a_count;
-    double* __restrict high = sum + 5 * a_count;
-    double* __restrict low_f = sum + 6 * a_count;
-    double* __restrict high_f = sum + 7 * a_count;
-    const double inf = std::numeric_limits<double>::infinity();
-    std::fill(low, low + a_count, inf);
-    std::fill(low_f, low_f + a_count, inf);
-    std::fill(high, high + a_count, -inf);
-    std::fill(high_f, high_f + a_count, -inf);
-    std::uint64_t failing = 0;
-    for (std::size_t r = 0; r < rows; ++r) {
-      const double* row = data + r * stride;
-      for (std::size_t a = 0; a < a_count; ++a) {
-        sum[a] += row[a];
-        low[a] = std::min(low[a], row[a]);
-        high[a] = std::max(high[a], row[a]);
-      }
-      if (row[stride - 1] != 0.0) continue;
-      ++failing;
-      for (std::size_t a = 0; a < a_count; ++a) {
-        sum_f[a] += row[a];
-        low_f[a] = std::min(low_f[a], row[a]);
-        high_f[a] = std::max(high_f[a], row[a]);
-      }
-    }
+  const bool entered = rows > 0 && measurement_check == 0.0;
+  if (!(parameter_check == 0.0)) return Written::nothing;
+  {
+    const double n = static_cast<double>(rows);
     for (std::size_t a = 0; a < a_count; ++a) {
-      sum[a] /= static_cast<double>(rows);  // now the means
+      sum[a] /= n;  // now the means
       if (failing > 0) sum_f[a] /= static_cast<double>(failing);
     }
+    for (std::size_t m = 0; m < m_count; ++m) my[m] /= n;
     for (std::size_t r = 0; r < rows; ++r) {
       const double* row = data + r * stride;
-      for (std::size_t a = 0; a < a_count; ++a) m2[a] += (row[a] - sum[a]) * (row[a] - sum[a]);
+      for (std::size_t a = 0; a < a_count; ++a) {
+        dx[a] = row[a] - sum[a];
+        m2[a] += dx[a] * dx[a];
+      }
+      if (entered) {
+        for (std::size_t m = 0; m < m_count; ++m) {
+          const double dy = row[a_count + m] - my[m];
+          m2y[m] += dy * dy;
+          double* __restrict c = cxy + m * a_count;
+          for (std::size_t a = 0; a < a_count; ++a) c[a] += dx[a] * dy;
+        }
+      }
       if (row[stride - 1] != 0.0) continue;
       for (std::size_t a = 0; a < a_count; ++a) m2_f[a] += (row[a] - sum_f[a]) * (row[a] - sum_f[a]);
     }
@@ -372,8 +356,30 @@ LOTWISE_AVX2_CLONES void ChunkEvaluator::attribution_moments(ChunkTally& tally, 
       tally.parameter_failing[a] = RunningStats::from_state(
           RunningStats::State{failing, 0, failing > 0 ? sum_f[a] : 0.0, m2_f[a], low_f[a], high_f[a]});
     }
-    if (pairs_on_every_row(tally, a_count, m_count, sum, m2)) return;
+    if (entered) {
+      for (std::size_t m = 0; m < m_count; ++m) {
+        for (std::size_t a = 0; a < a_count; ++a) {
+          tally.pairs[m * a_count + a] =
+              PairMoments{n, sum[a], my[m], m2[a], m2y[m], cxy[m * a_count + a]};
+        }
+      }
+      return Written::everything;
+    }
   }
+  return Written::parameters;
+}
+
+// The rest of a chunk's attribution moments, value by value, where common_moments left
+// them: parameters with a value out of the physical range, measurements that did not
+// enter every row.
+void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
+                                         std::size_t m_count) const {
+  const Written written = common_moments(tally, a_count, m_count);
+  if (written == Written::everything) return;
+  const bool finite = written == Written::parameters;
+  const std::size_t stride = a_count + m_count + 1;
+  const std::size_t rows = attribution_rows_.size() / stride;
+  const double* data = attribution_rows_.data();
   for (std::size_t a = 0; a < a_count && !finite; ++a) {
     for (const bool failing_only : {false, true}) {
       std::uint64_t n = 0, non_finite = 0;

@@ -55,8 +55,10 @@ class ChunkEvaluator {
   mutable std::vector<double> moment_scratch_;
   mutable std::vector<double> parameter_scratch_;
   void attribution_moments(ChunkTally& tally, std::size_t a_count, std::size_t m_count) const;
-  bool pairs_on_every_row(ChunkTally& tally, std::size_t a_count, std::size_t m_count,
-                          const double* mean, const double* m2x) const;
+  /// What common_moments wrote: nothing (a parameter value not finite), the parameters'
+  /// moments, or those and every pair's.
+  enum class Written { nothing, parameters, everything };
+  Written common_moments(ChunkTally& tally, std::size_t a_count, std::size_t m_count) const;
   mutable std::vector<double> pair_scratch_;
 };
 
