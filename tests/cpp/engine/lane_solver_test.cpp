@@ -229,39 +229,34 @@ TEST_CASE("evaluate_lanes gives every example design's values bit for bit", "[fa
         in.push_back(thetas[l].data());
         out.push_back(values[l].data());
       }
-      SolveStatus statuses[L];
-      lanes.evaluate_lanes(in.data(), out.data(), statuses, count);
-      for (std::size_t l = 0; l < count; ++l) {
-        std::vector<double> want(m);
-        const SolveStatus status = single.evaluate(thetas[l].data(), want.data());
-        REQUIRE(statuses[l] == status);
-        for (std::size_t i = 0; i < m; ++i) {
-          REQUIRE(same_bits(values[l][i], want[i]));
-          REQUIRE(lanes.saturated_lane(l)[i] == single.saturated()[i]);
+      // The block through `evaluator`'s lanes against `single`, build by build.
+      auto compare = [&](detail::Evaluator& evaluator, int& counter) {
+        SolveStatus statuses[L];
+        evaluator.evaluate_lanes(in.data(), out.data(), statuses, count);
+        for (std::size_t l = 0; l < count; ++l) {
+          std::vector<double> want(m);
+          const SolveStatus status = single.evaluate(thetas[l].data(), want.data());
+          REQUIRE(statuses[l] == status);
+          for (std::size_t i = 0; i < m; ++i) {
+            REQUIRE(same_bits(values[l][i], want[i]));
+            REQUIRE(evaluator.saturated_lane(l)[i] == single.saturated()[i]);
+          }
+          REQUIRE(evaluator.saturated_opamp_lane(l) == single.saturated_opamp());
+          ++counter;
+          if (&evaluator == &lanes) {
+            saturated += single.any_saturated();
+            failed += status != SolveStatus::ok;
+          }
         }
-        REQUIRE(lanes.saturated_opamp_lane(l) == single.saturated_opamp());
-        ++compared;
-        saturated += single.any_saturated();
-        failed += status != SolveStatus::ok;
-      }
+      };
+      compare(lanes, compared);
       // The same builds with only the varied parameters moved, through `narrowed`.
       for (auto& theta : thetas) {
         for (std::size_t p = 0; p < params.size(); ++p) {
           if (!is_varied[p]) theta[p] = nominal_theta[p];
         }
       }
-      narrowed.evaluate_lanes(in.data(), out.data(), statuses, count);
-      for (std::size_t l = 0; l < count; ++l) {
-        std::vector<double> want(m);
-        const SolveStatus status = single.evaluate(thetas[l].data(), want.data());
-        REQUIRE(statuses[l] == status);
-        for (std::size_t i = 0; i < m; ++i) {
-          REQUIRE(same_bits(values[l][i], want[i]));
-          REQUIRE(narrowed.saturated_lane(l)[i] == single.saturated()[i]);
-        }
-        REQUIRE(narrowed.saturated_opamp_lane(l) == single.saturated_opamp());
-        ++compared_narrowed;
-      }
+      compare(narrowed, compared_narrowed);
     }
   }
   std::size_t lanes_per_design = 0;  // 40 blocks of 1..L lanes
