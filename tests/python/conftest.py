@@ -2,12 +2,27 @@
 
 from __future__ import annotations
 
+import signal
 from pathlib import Path
 from typing import Dict, Tuple
 
 import pytest
 
 import lotwise
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _ctrl_c_reaches_python():
+    # A shell that starts the suite in the background (`cmd &`, nohup) leaves SIGINT
+    # ignored, and Python then installs no handler: _thread.interrupt_main and
+    # signal.raise_signal(SIGINT) do nothing and the interrupt tests would run their endless
+    # studies forever. Give SIGINT Python's own handler for the session.
+    previous = signal.getsignal(signal.SIGINT)
+    if previous is signal.SIG_IGN:
+        signal.signal(signal.SIGINT, signal.default_int_handler)
+    yield
+    if previous is signal.SIG_IGN:
+        signal.signal(signal.SIGINT, previous)
 
 ROOT = Path(__file__).resolve().parents[2]
 EXAMPLES = ROOT / "docs" / "examples"
