@@ -116,7 +116,7 @@ class LaneSchedule {
   /// Whether solve() reads the right-hand side at elimination step k.
   bool reads_step(std::size_t k) const { return forward_needed_[k] != 0; }
 
-  /// PatternLU::factor_lanes' work for L matrices side by side, on `v` (nonzeros x L,
+  /// PatternLU::factor()'s work for L matrices side by side, on `v` (nonzeros x L,
   /// lane-adjacent) set up from initial(), refill() and the changing terms, and
   /// `inverse` (size x L) holding initial_inverse(). A lane whose check fails gets
   /// ok[l] = 0 (its values are then spoiled) while the others go on.
