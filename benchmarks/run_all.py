@@ -109,7 +109,8 @@ def main() -> int:
     print(f"      draws alone                 {draws:12.0f}")
     print(f"  (b) numpy batched solve         {numpy_ref['samples_per_cpu_s']:12.0f}   lotwise is "
           f"{lw0 / numpy_ref['samples_per_cpu_s']:.0f}x faster (target >= 30x); "
-          f"{lw1 / numpy_ref['samples_per_cpu_s']:.0f}x with attribution")
+          f"{lw1 / numpy_ref['samples_per_cpu_s']:.0f}x with attribution; the closed form "
+          f"itself is {closed / numpy_ref['samples_per_cpu_s']:.0f}x)")
     for attribution, label in (("0", "off"), ("1", "on")):
         r = py.get(attribution)
         if r:
