@@ -40,7 +40,12 @@ class LaneSchedule {
     // holds when it starts to change (or its final value if it never does).
     std::vector<T> value = start;
     std::vector<unsigned char> changing(varies);
-    refill_value_ = start;
+    initial_ = start;  // the slots that change from the start refill from `start`
+    auto start_changing = [&](Index s) {
+      if (changing[s]) return;
+      changing[s] = 1;
+      initial_[s] = value[s];
+    };
     initial_inverse_.assign(n, T(0));
     for (std::size_t k = 0; k < n; ++k) {
       const Index pivot = lu.pivot_[k];
@@ -74,14 +79,14 @@ class LaneSchedule {
         Lower lower{s, false, static_cast<Index>(update_.size()), 0};
         if (step.invert || changing[s]) {
           lower.scale = true;
-          start_changing(s, value, changing);
+          start_changing(s);
         } else {
           value[s] = value[s] * initial_inverse_[k];
         }
         for (Index q = 0; q < width; ++q) {
           const Index u = lu.upper_slot_[ub + q];
           if (lower.scale || changing[u] || changing[target[q]]) {
-            start_changing(target[q], value, changing);
+            start_changing(target[q]);
             update_.push_back(Update{target[q], u});
           } else {
             value[target[q]] -= value[s] * value[u];
@@ -93,11 +98,11 @@ class LaneSchedule {
       step.lower_end = static_cast<Index>(lower_.size());
       if (step.check || step.lower_end > step.lower_begin) steps_.push_back(step);
     }
-    initial_ = value;
     for (std::size_t s = 0; s < value.size(); ++s) {
       if (changing[s]) {
         refill_.push_back(static_cast<Index>(s));
-        initial_[s] = refill_value_[s];
+      } else {
+        initial_[s] = value[s];
       }
     }
     compile_solves(lu, read);
@@ -188,12 +193,6 @@ class LaneSchedule {
     }
   }
 
-  /// Per-matrix work left, for the benchmarks: steps visited, lane multiply-adds of the
-  /// factorisation, and entries of the solves per right-hand side.
-  std::size_t factor_steps() const { return steps_.size(); }
-  std::size_t factor_updates() const { return update_.size(); }
-  std::size_t solve_entries() const { return forward_.size() + upper_.size(); }
-
  private:
   struct Step {
     Index step;
@@ -222,12 +221,6 @@ class LaneSchedule {
     std::size_t step;
     Index begin, end;  ///< in upper_
   };
-
-  void start_changing(Index s, const std::vector<T>& value, std::vector<unsigned char>& changing) {
-    if (changing[s]) return;
-    changing[s] = 1;
-    refill_value_[s] = value[s];
-  }
 
   void compile_solves(const PatternLU<T>& lu, const std::vector<std::size_t>& read) {
     const std::size_t n = lu.size();
@@ -266,7 +259,7 @@ class LaneSchedule {
   bool usable_ = true;
   bool has_constant_pivots_ = false;
   double constant_pivot_min2_ = std::numeric_limits<double>::infinity();
-  std::vector<T> initial_, initial_inverse_, refill_value_;
+  std::vector<T> initial_, initial_inverse_;
   std::vector<Index> refill_;
   std::vector<Step> steps_;
   std::vector<Index> check_slot_;

@@ -35,7 +35,8 @@ struct LaneAnalysis {
   std::vector<RhsOp> rhs;                ///< every excitation's operations, in order
   /// The fill's terms on the slots that change between loads (every term of such a
   /// slot, in the fill's order); the others are part of the schedule's constants.
-  /// Reciprocal terms index `inverse`.
+  /// Reciprocal terms index `terms.inverse`; `constants` and `reciprocal` stay empty
+  /// (the schedule's initial values and `reciprocal` below take their places).
   PatternFill<T> terms;
   std::vector<T> values;                 ///< nonzeros x lanes
   /// Slots the terms add to, and the largest |value|^2 of the others: the matrix's

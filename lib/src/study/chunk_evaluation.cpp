@@ -299,9 +299,9 @@ LOTWISE_AVX2_CLONES ChunkEvaluator::Written ChunkEvaluator::common_moments(
   std::fill(high, high + a_count, -inf);
   std::fill(high_f, high_f + a_count, -inf);
   // Parameter values are finite but for draws outside the physical range; such a chunk
-  // takes the careful path below. A measurement that did not enter a row (NaN) sends the
-  // pairs to theirs.
-  // x * 0 is 0 for a finite x and NaN otherwise: summed, a test without a branch.
+  // takes attribution_moments' careful path, and a measurement that did not enter a row
+  // (NaN) its general pairs. Finiteness without a branch: x * 0 is 0 for a finite x and
+  // NaN otherwise, and a NaN stays in a sum.
   double parameter_check = 0.0, measurement_check = 0.0;
   std::uint64_t failing = 0;
   for (std::size_t r = 0; r < rows; ++r) {
