@@ -7,6 +7,7 @@
 
 #include "cpu_dispatch.hpp"
 #include "lotwise/error.hpp"
+#include "variation/common_draws.hpp"
 #include "variation/spread.hpp"
 
 namespace lotwise {
@@ -152,28 +153,8 @@ PointStream::PointStream(const VariationModel& model, Sampler sampler, std::uint
   for (const Coordinate& c : model.coordinates()) {
     if (runs_.empty() || runs_.back().normal != c.normal) runs_.push_back(Run{0, c.normal});
     ++runs_.back().count;
+    normal_mask_.push_back(c.normal ? -1 : 0);
   }
-}
-
-// Boost.Random's normal_distribution on the same engine state, with its common case
-// inline. Its ziggurat (128 layers, mirrored) takes one 64-bit output as a layer and
-// sign (the low 8 bits) and a fraction (bits 8..63 without bit 11, over 2^56); the
-// draw is accepted at once when the fraction times the layer's width falls inside the
-// next layer. Otherwise the output is left untaken and Boost draws from the same state.
-inline double PointStream::normal_draw() {
-  const double* const width = boost::random::detail::normal_table<double>::table_x;
-  const std::uint64_t u = peek_engine_.peek();
-  const int bucket = static_cast<int>(u & 0xFFu);
-  const int layer = bucket >> 1;
-  const double x = static_cast<double>((u & ~(std::uint64_t{1} << 11)) >> 8) * 0x1.0p-56 * width[layer];
-  if (x < width[layer + 1]) {
-    peek_engine_.skip();
-    // Boost's sign, (bucket & 1) * 2 - 1 as a double, then its mean 0 and sigma 1 (which
-    // also turn -0 into +0).
-    static constexpr double sign[2] = {-1.0, 1.0};
-    return x * sign[bucket & 1] * 1.0 + 0.0;
-  }
-  return normal_(peek_engine_);
 }
 
 void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t replicate,
@@ -226,13 +207,16 @@ void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t r
 const double* PointStream::next() {
   switch (sampler_) {
     case Sampler::monte_carlo: {
-      double* out = point_.data();
-      for (const Run& run : runs_) {
-        double* const end = out + run.count;
-        if (run.normal) {
-          for (; out != end; ++out) *out = normal_draw();
-        } else {
-          for (; out != end; ++out) *out = uniform_(peek_engine_);
+      // Runs of common draws side by side, each other draw by Boost from the same state.
+      for (std::size_t j = 0; j < dimension_;) {
+        std::size_t ready = dimension_ - j;
+        const std::uint64_t* outputs = peek_engine_.peek(ready);
+        const std::size_t drawn = draw_common_prefix(outputs, &normal_mask_[j], ready, &point_[j]);
+        peek_engine_.skip(drawn);
+        j += drawn;
+        if (drawn < ready) {
+          point_[j] = normal_mask_[j] != 0 ? normal_(peek_engine_) : uniform_(peek_engine_);
+          ++j;
         }
       }
       return point_.data();

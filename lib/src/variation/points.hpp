@@ -52,8 +52,9 @@ inline double to_unit(std::uint64_t x) {
 std::uint64_t replicate_seed(std::uint64_t seed, std::uint64_t replicate);
 
 /// MT19937-64 (Matsumoto & Nishimura), output for output the same as Engine from the same
-/// seed, with the next output readable before it is taken: the monte_carlo sampler tests
-/// the common case of a ziggurat draw on it and leaves the rest to Boost.Random unchanged.
+/// seed, with the next outputs readable before they are taken: the monte_carlo sampler
+/// makes the common draws from them (common_draws.hpp) and leaves the rest to
+/// Boost.Random unchanged.
 class PeekEngine {
  public:
   using result_type = std::uint64_t;
@@ -68,6 +69,15 @@ class PeekEngine {
   }
   /// Takes the output peek() gave.
   void skip() { ++i_; }
+  /// The next outputs, not taken: `count` of them, or as many as the current block
+  /// still holds if fewer (then `count` is lowered to that, never to 0).
+  const result_type* peek(std::size_t& count) {
+    if (i_ == n) refill();
+    if (count > n - i_) count = n - i_;
+    return out_ + i_;
+  }
+  /// Takes `count` outputs peek(count) gave.
+  void skip(std::size_t count) { i_ += count; }
   result_type operator()() {
     const result_type z = peek();
     ++i_;
@@ -113,8 +123,8 @@ class PointStream {
     bool normal;
   };
   std::vector<Run> runs_;
+  std::vector<std::int64_t> normal_mask_;  // per coordinate: -1 normal, 0 uniform
   PeekEngine peek_engine_;
-  double normal_draw();
   // monte_carlo. Both are stateless for our use: Boost's normal_distribution is a
   // ziggurat that keeps no cached second value, so draws depend only on the engine.
   boost::random::normal_distribution<double> normal_;
