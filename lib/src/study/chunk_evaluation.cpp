@@ -155,7 +155,15 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         }
       }
     }
-    // Tally in build order, exactly as one build at a time.
+    // Tally in build order, exactly as one build at a time; a block with nothing but
+    // entered values and build-wide counts, measurement by measurement.
+    const bool plain_block = evaluations == 1 && sweep == 0 && o.builds_per_lot == 0 && !pilot &&
+                             !o.keep_samples && range.first_sample + t0 >= regression_end &&
+                             all_entered(block);
+    if (plain_block) {
+      tally_entered_block(tally, block);
+      continue;
+    }
     for (std::size_t b = 0; b < block; ++b) {
       const std::uint64_t i = range.first_sample + t0 + b;
       LotStats* lot_stats = nullptr;
@@ -263,6 +271,54 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   }
   if (a_count > 0) attribution_moments(tally, a_count, m_count);
   return tally;
+}
+
+bool ChunkEvaluator::all_entered(std::size_t block) const {
+  bool entered = true;
+  for (std::size_t b = 0; b < block; ++b) {
+    entered = entered && status_[b] == SolveStatus::ok && !any_saturated_[b];
+  }
+  return entered;
+}
+
+// One evaluation per build, every status ok and nothing withheld: each measurement's
+// values enter its statistics and histogram in build order (the order the general loop
+// gives each of them), then the specs and attribution rows build by build.
+void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
+  const Study::Impl& s = study_;
+  const std::size_t m_count = shape_.measurements;
+  const std::size_t spec_count = shape_.specs;
+  for (std::size_t m = 0; m < m_count; ++m) {
+    std::vector<double>& entered = entered_[m];
+    const std::size_t at = entered.size();
+    entered.resize(at + block);  // within the reserve
+    for (std::size_t b = 0; b < block; ++b) entered[at + b] = values_[b * m_count + m];
+    if (!tally.histograms.empty()) {
+      for (std::size_t b = 0; b < block; ++b) tally.histograms[m].add(values_[b * m_count + m]);
+    }
+  }
+  const std::size_t p_count = s.nominal_parameters.size();
+  const std::size_t a_count = shape_.attribution ? shape_.varied.size() : 0;
+  for (std::size_t b = 0; b < block; ++b) {
+    const double* values = &values_[b * m_count];
+    bool pass = true;
+    for (std::size_t j = 0; j < spec_count; ++j) {
+      const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
+      tally.builds.spec_passed[j] += ok;
+      pass = pass && ok;
+    }
+    tally.builds.passed += pass;
+    if (a_count > 0) {
+      const double* theta = &theta_[b * p_count];
+      const std::size_t at = attribution_rows_.size();
+      attribution_rows_.resize(at + a_count + m_count + 1);  // within the reserve
+      double* out = attribution_rows_.data() + at;
+      for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[shape_.varied[a]];
+      std::copy(values, values + m_count, out + a_count);
+      out[a_count + m_count] = pass ? 1.0 : 0.0;
+    }
+  }
+  tally.builds.samples += block;
 }
 
 // Each chunk's attribution moments from its records (one row per evaluation: the varied

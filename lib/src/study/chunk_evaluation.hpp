@@ -54,6 +54,11 @@ class ChunkEvaluator {
   std::vector<double> attribution_rows_;
   mutable std::vector<double> moment_scratch_;
   mutable std::vector<double> parameter_scratch_;
+  /// Whether every build of the block (one evaluation each) solved and had every value
+  /// enter the statistics.
+  bool all_entered(std::size_t block) const;
+  /// Tallies such a block, bit for bit as the general loop.
+  void tally_entered_block(ChunkTally& tally, std::size_t block);
   void attribution_moments(ChunkTally& tally, std::size_t a_count, std::size_t m_count) const;
   /// What common_moments wrote: nothing (a parameter value not finite), the parameters'
   /// moments, or those and every pair's.
