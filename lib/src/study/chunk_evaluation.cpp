@@ -24,7 +24,8 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
       any_saturated_(Evaluator::lanes * shape.evaluations),
       spec_ok_(shape.specs),
       spec_saturated_(shape.specs),
-      point_(study.model.dimension()) {
+      point_(study.model.dimension()),
+      block_points_(Evaluator::lanes * study.model.dimension()) {
   entered_.resize(shape.measurements);
   for (auto& e : entered_) e.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations);
   for (std::size_t r = 0; r < Evaluator::lanes * shape.evaluations; ++r) {
@@ -130,11 +131,12 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         point = point_.data();
       }
       if (one_pass) {
-        s.model.prepare_values(point, builds_[b], &theta_[b * p_count]);
+        std::copy(point, point + point_.size(), &block_points_[b * point_.size()]);
       } else {
         s.model.prepare(point, builds_[b]);
       }
     }
+    if (one_pass) s.model.prepare_values(block_points_.data(), block, builds_.data(), theta_.data(), p_count);
     // Evaluate each operating temperature of the block's builds side by side.
     for (std::size_t q = 0; q < evaluations; ++q) {
       for (std::size_t b = 0; b < block; ++b) {

@@ -49,6 +49,8 @@ class ChunkEvaluator {
   std::vector<double> lot_values_;
   std::uint64_t current_lot_ = ~std::uint64_t{0};
   std::vector<double> point_;
+  // The block's points, one after another, for VariationModel::prepare_values.
+  std::vector<double> block_points_;
   // Attribution: one row per evaluation of the chunk (varied parameters, measurements,
   // passed), reduced to moments at the chunk's end.
   std::vector<double> attribution_rows_;

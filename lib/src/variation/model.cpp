@@ -372,16 +372,32 @@ void VariationModel::prepare(const double* point, BuildScratch& s) const {
   }
 }
 
-void VariationModel::prepare_values(const double* point, BuildScratch& s, double* theta) const {
-  // prepare()'s plain terms and apply()'s nominal + deviation, the same operations.
+void VariationModel::prepare_values(const double* points, std::size_t count, BuildScratch* scratch,
+                                    double* theta, std::size_t theta_stride) const {
+  // prepare()'s plain terms and apply()'s nominal + deviation, the same operations; one
+  // term across the builds keeps its constants in registers.
+  const std::size_t d = dimension();
   for (const PlainValue& t : value_normal_) {
-    theta[t.parameter] = t.nominal + ((t.spread * point[t.coordinate]) * t.scale + 0.0);
+    const double* x = points + t.coordinate;
+    double* out = theta + t.parameter;
+    const double nominal = t.nominal, spread = t.spread, scale = t.scale;
+    for (std::size_t b = 0; b < count; ++b) {
+      out[b * theta_stride] = nominal + ((spread * x[b * d]) * scale + 0.0);
+    }
   }
   for (const PlainValue& t : value_uniform_) {
-    theta[t.parameter] = t.nominal + ((t.spread * (2.0 * point[t.coordinate] - 1.0)) * t.scale + 0.0);
+    const double* x = points + t.coordinate;
+    double* out = theta + t.parameter;
+    const double nominal = t.nominal, spread = t.spread, scale = t.scale;
+    for (std::size_t b = 0; b < count; ++b) {
+      out[b * theta_stride] = nominal + ((spread * (2.0 * x[b * d] - 1.0)) * scale + 0.0);
+    }
   }
   if (temperature_coordinate_ != npos) {
-    s.temperature = temperature_.low + (temperature_.high - temperature_.low) * point[temperature_coordinate_];
+    for (std::size_t b = 0; b < count; ++b) {
+      scratch[b].temperature =
+          temperature_.low + (temperature_.high - temperature_.low) * points[b * d + temperature_coordinate_];
+    }
   }
 }
 

@@ -88,10 +88,12 @@ class VariationModel {
   /// term, uncorrelated and without a temperature coefficient: the values then do not
   /// depend on the temperature and prepare_values() can map a point in one pass.
   bool maps_in_one_pass() const { return !value_normal_.empty() || !value_uniform_.empty(); }
-  /// For a model that maps_in_one_pass(): prepare() and apply() in one pass over the terms,
-  /// writing the values straight into theta (the deviations are not kept in `s`). The same
-  /// bits as prepare() then apply().
-  void prepare_values(const double* point, BuildScratch& s, double* theta) const;
+  /// For a model that maps_in_one_pass(): prepare() and apply() in one pass over the terms
+  /// for `count` builds, term by term across the builds. Point b is points[b * dimension()
+  /// ...], its values go straight into theta + b * theta_stride (the deviations are not
+  /// kept in scratch[b], only a drawn temperature). The same bits as prepare() then apply().
+  void prepare_values(const double* points, std::size_t count, BuildScratch* scratch, double* theta,
+                      std::size_t theta_stride) const;
 
  private:
   std::size_t add_coordinate(bool normal, std::string name);

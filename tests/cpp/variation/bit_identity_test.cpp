@@ -238,18 +238,34 @@ void check_against_reference(const Mixed& m, const Temperature& temperature, Sam
   constexpr std::size_t count = 4096;
   detail::PointStream stream(model, sampler, count, &directions);
   stream.start(11, 3, 0, 0, count);
-  detail::BuildScratch scratch = model.make_scratch(), direct_scratch = model.make_scratch();
-  std::vector<double> theta(m.circuit.parameters().size()), direct(theta.size());
-  std::size_t differing = 0;
+  const std::size_t d = model.dimension(), p_count = m.circuit.parameters().size();
+  std::vector<double> points(count * d);
   for (std::size_t i = 0; i < count; ++i) {
     const double* point = stream.next();
+    std::copy(point, point + d, &points[i * d]);
+  }
+  // The one-pass mapping, in blocks of 1 to 16 builds as the chunk evaluator calls it.
+  std::vector<double> mapped(count * p_count);
+  std::vector<detail::BuildScratch> mapped_scratch(count, model.make_scratch());
+  if (model.maps_in_one_pass()) {
+    for (std::size_t i = 0; i < count; ++i) {
+      for (std::size_t p = 0; p < p_count; ++p) mapped[i * p_count + p] = m.circuit.parameters()[p].nominal;
+    }
+    for (std::size_t i = 0, block = 1; i < count; i += block, block = block % 16 + 1) {
+      const std::size_t n = std::min(block, count - i);
+      model.prepare_values(&points[i * d], n, &mapped_scratch[i], &mapped[i * p_count], p_count);
+    }
+  }
+  detail::BuildScratch scratch = model.make_scratch();
+  std::vector<double> theta(p_count);
+  std::size_t differing = 0;
+  for (std::size_t i = 0; i < count; ++i) {
+    const double* point = &points[i * d];
     model.prepare(point, scratch);
+    const double* direct = &mapped[i * p_count];
     if (model.maps_in_one_pass()) {
-      // The one-pass mapping: the same values at every temperature, and the same drawn
-      // temperature.
-      for (std::size_t p = 0; p < direct.size(); ++p) direct[p] = m.circuit.parameters()[p].nominal;
-      model.prepare_values(point, direct_scratch, direct.data());
-      CHECK(bits(direct_scratch.temperature) == bits(scratch.temperature));
+      // The same values at every temperature, and the same drawn temperature.
+      CHECK(bits(mapped_scratch[i].temperature) == bits(scratch.temperature));
     }
     for (std::size_t q = 0; q < model.evaluations(); ++q) {
       for (std::size_t p = 0; p < theta.size(); ++p) theta[p] = m.circuit.parameters()[p].nominal;
