@@ -508,6 +508,76 @@ Plan make_plan(const Network& network, const std::vector<Measurement>& measureme
   return plan;
 }
 
+namespace {
+
+// Whether a measurement's value is read from its probes (and the source values) alone:
+// no root search, no trip-point solve.
+bool read_from_probes(MeasurementKind kind) {
+  switch (kind) {
+    case MeasurementKind::bandwidth:
+    case MeasurementKind::rising_threshold:
+    case MeasurementKind::falling_threshold:
+    case MeasurementKind::hysteresis:
+    case MeasurementKind::threshold_centre:
+    case MeasurementKind::output_high:
+    case MeasurementKind::output_low:
+      return false;
+    case MeasurementKind::gain:
+    case MeasurementKind::differential_gain:
+    case MeasurementKind::common_mode_gain:
+    case MeasurementKind::cmrr:
+    case MeasurementKind::output_offset:
+    case MeasurementKind::input_offset:
+    case MeasurementKind::node_voltage:
+    case MeasurementKind::phase:
+    case MeasurementKind::gain_error:
+      return true;
+  }
+  return false;
+}
+
+// The value of a measurement read_from_probes: probe p at probes[p * stride] (one build's
+// probes, or one lane of the lanes' probes).
+inline double read_value(const CompiledMeasurement& m, const std::complex<double>* probes,
+                         std::size_t stride, const double* theta) {
+  const std::complex<double> first = probes[m.first * stride];
+  const bool at_dc = m.frequency == 0.0;
+  switch (m.kind) {
+    case MeasurementKind::gain:
+    case MeasurementKind::differential_gain:
+    case MeasurementKind::common_mode_gain:
+      return at_dc ? first.real() : std::abs(first);
+    case MeasurementKind::cmrr: {
+      // A common-mode gain within rounding of zero (a perfectly matched network) is
+      // infinite rejection, not a 300 dB figure made of rounding noise.
+      // At DC the probes are real; |x + 0i| is |x| exactly, without a call to hypot.
+      const std::complex<double> second = probes[m.second * stride];
+      const double common = at_dc ? std::abs(second.real()) : std::abs(second);
+      const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
+      return common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
+                 ? std::numeric_limits<double>::infinity()
+                 : db_per_neper * std::log(signal / common);
+    }
+    case MeasurementKind::node_voltage: return first.real();
+    case MeasurementKind::output_offset:
+    case MeasurementKind::input_offset: {
+      const double signal = theta[m.signal_plus] -
+                            (m.signal_minus == Network::npos ? 0.0 : theta[m.signal_minus]);
+      const double gain = probes[m.second * stride].real();
+      const double offset = first.real() - gain * signal;
+      return m.kind == MeasurementKind::output_offset ? offset : offset / gain;
+    }
+    case MeasurementKind::phase: return std::arg(first) * (180.0 / 3.14159265358979323846);
+    case MeasurementKind::gain_error: {
+      const double gain = at_dc ? first.real() : std::abs(first);
+      return (gain - m.target) / m.target;
+    }
+    default: return nan;
+  }
+}
+
+}  // namespace
+
 Evaluator::Evaluator(const Network& network, const Plan& plan,
                      const std::vector<std::size_t>* changing)
     : network_(network),
@@ -547,6 +617,8 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
     solver->add_analysis(workspace_, analysis.frequency, analysis.held, analysis.excitations, read);
   }
   if (solver->usable()) lane_solver_ = std::move(solver);
+  reads_lanes_ = std::all_of(plan.measurements.begin(), plan.measurements.end(),
+                             [](const CompiledMeasurement& m) { return read_from_probes(m.kind); });
 }
 
 Evaluator::~Evaluator() = default;
@@ -603,8 +675,10 @@ void Evaluator::evaluate_lanes(const double* const* thetas, double* const* value
       }
     }
   }
+  if (reads_lanes_) finish_lanes(thetas, values, statuses, ok, count);
   for (std::size_t l = 0; l < count; ++l) {
     if (ok[l]) {
+      if (reads_lanes_) continue;  // finished side by side
       for (std::size_t p = 0; p < probe_values_.size(); ++p) probe_values_[p] = lane_probes_[p * lanes + l];
       statuses[l] = finish(thetas[l], values[l]);
     } else {
@@ -655,6 +729,43 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
   return finish(theta, values);
 }
 
+// finish() for the solved lanes of a plan whose every value is read from the probes,
+// measurement by measurement across the lanes: the same operations per lane.
+void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
+                             SolveStatus* statuses, const unsigned char* ok, std::size_t count) {
+  std::size_t saturated[lanes];
+  for (std::size_t l = 0; l < count; ++l) saturated[l] = Network::npos;
+  for (const LimitCheck& check : plan_.limit_checks) {
+    for (std::size_t l = 0; l < count; ++l) {
+      if (!ok[l]) continue;
+      const double v = lane_probes_[check.probe * lanes + l].real();
+      const OutputLimits limits = network_.output_limits(thetas[l], check.element);
+      if (v > limits.high || v < limits.low) saturated[l] = check.element;
+    }
+  }
+  const std::size_t m_count = plan_.measurements.size();
+  for (std::size_t i = 0; i < m_count; ++i) {
+    const CompiledMeasurement& m = plan_.measurements[i];
+    for (std::size_t l = 0; l < count; ++l) {
+      if (ok[l]) values[l][i] = read_value(m, lane_probes_.data() + l, lanes, thetas[l]);
+    }
+    if (!m.linear) continue;
+    // Withheld where an op-amp is beyond its limits at the operating point.
+    for (std::size_t l = 0; l < count; ++l) {
+      if (ok[l] && saturated[l] != Network::npos) values[l][i] = nan;
+    }
+  }
+  for (std::size_t l = 0; l < count; ++l) {
+    if (!ok[l]) continue;
+    statuses[l] = SolveStatus::ok;
+    lane_saturated_opamp_[l] = saturated[l];
+    if (saturated[l] == Network::npos) continue;  // the flags are read only when set
+    for (std::size_t i = 0; i < m_count; ++i) {
+      lane_saturated_[l * m_count + i] = plan_.measurements[i].linear ? 1 : 0;
+    }
+  }
+}
+
 SolveStatus Evaluator::finish(const double* theta, double* values) {
   // An op-amp beyond its limits at the operating point: the linear model no longer
   // describes the circuit, so every linear measurement is withheld.
@@ -677,48 +788,11 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
       saturated_[i] = 1;
       continue;
     }
-    const std::complex<double> first = probe_values_[m.first];
-    const bool at_dc = m.frequency == 0.0;
     switch (m.kind) {
-      case MeasurementKind::gain:
-      case MeasurementKind::differential_gain:
-      case MeasurementKind::common_mode_gain:
-        values[i] = at_dc ? first.real() : std::abs(first);
-        break;
-      case MeasurementKind::cmrr: {
-        // A common-mode gain within rounding of zero (a perfectly matched network) is
-        // infinite rejection, not a 300 dB figure made of rounding noise.
-        // At DC the probes are real; |x + 0i| is |x| exactly, without a call to hypot.
-        const std::complex<double> second = probe_values_[m.second];
-        const double common = at_dc ? std::abs(second.real()) : std::abs(second);
-        const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
-        values[i] = common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
-                        ? std::numeric_limits<double>::infinity()
-                        : db_per_neper * std::log(signal / common);
-        break;
-      }
-      case MeasurementKind::node_voltage: values[i] = first.real(); break;
-      case MeasurementKind::output_offset:
-      case MeasurementKind::input_offset: {
-        const double signal = theta[m.signal_plus] -
-                              (m.signal_minus == Network::npos ? 0.0 : theta[m.signal_minus]);
-        const double gain = probe_values_[m.second].real();
-        const double offset = first.real() - gain * signal;
-        values[i] = m.kind == MeasurementKind::output_offset ? offset : offset / gain;
-        break;
-      }
       case MeasurementKind::bandwidth:
-        values[i] = bandwidth(m, theta, std::abs(first), status);
+        values[i] = bandwidth(m, theta, std::abs(probe_values_[m.first]), status);
         if (status != SolveStatus::ok) return status;
         break;
-      case MeasurementKind::phase:
-        values[i] = std::arg(first) * (180.0 / 3.14159265358979323846);
-        break;
-      case MeasurementKind::gain_error: {
-        const double gain = at_dc ? first.real() : std::abs(first);
-        values[i] = (gain - m.target) / m.target;
-        break;
-      }
       case MeasurementKind::rising_threshold:
       case MeasurementKind::falling_threshold:
       case MeasurementKind::hysteresis:
@@ -726,6 +800,9 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
       case MeasurementKind::output_high:
       case MeasurementKind::output_low:
         values[i] = trip_point(m, theta, i);
+        break;
+      default:  // read_from_probes
+        values[i] = read_value(m, probe_values_.data(), 1, theta);
         break;
     }
   }

@@ -143,6 +143,9 @@ class Evaluator {
  private:
   /// The measurements from probe_values_ (filled by the solves for `theta`).
   SolveStatus finish(const double* theta, double* values);
+  /// finish() for the solved lanes (ok[l]) when reads_lanes_, with lane l's flags kept.
+  void finish_lanes(const double* const* thetas, double* const* values, SolveStatus* statuses,
+                    const unsigned char* ok, std::size_t count);
   /// Keeps the saturation flags of the last evaluation as lane l's.
   void keep_lane(std::size_t l);
   double bandwidth(const CompiledMeasurement& m, const double* theta, double dc_gain,
@@ -163,6 +166,8 @@ class Evaluator {
   std::vector<std::complex<double>> lane_probes_;  ///< probes x lanes
   std::vector<unsigned char> lane_saturated_;      ///< (lanes + 1) x measurements
   std::vector<std::size_t> lane_saturated_opamp_;
+  /// Every measurement is read from the probes alone: the lanes finish side by side.
+  bool reads_lanes_ = false;
 };
 
 }  // namespace lotwise::detail

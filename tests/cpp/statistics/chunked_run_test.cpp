@@ -199,41 +199,7 @@ TEST_CASE("blocks with every value entered are tallied as the general loop talli
     require_block_tallies_agree(Study(load_design(data_path("diff_amp.toml"))), o);
   }
   SECTION("plain blocks between ones with saturated builds") {
-    // Offsets large enough that about one build in ten drives the output into a rail.
-    const Study saturating(parse_design(R"(
-[opamp_grades.rail]
-model = "finite_gain"
-open_loop_gain = 1e5
-supply_high = 0.3
-supply_low = -5
-[parts]
-VP = { type = "voltage_source", value = 0.05, nodes = ["in_p", "gnd"] }
-VN = { type = "voltage_source", value = 0.05, nodes = ["in_n", "gnd"] }
-U1 = { type = "opamp", grade = "rail", plus = "p", minus = "n", output = "out" }
-R1 = { type = "resistor", value = "10k", nodes = ["in_n", "n"] }
-R2 = { type = "resistor", value = "100k", nodes = ["n", "out"] }
-R3 = { type = "resistor", value = "10k", nodes = ["in_p", "p"] }
-R4 = { type = "resistor", value = "100k", nodes = ["p", "gnd"] }
-[[vary]]
-parameters = "R*"
-tolerance = "1%"
-[[vary]]
-parameters = "U1.offset"
-tolerance = "60m"
-distribution = "normal"
-sigmas = 3
-[measurements.gain]
-kind = "differential_gain"
-inputs = ["VP", "VN"]
-output = "out"
-[measurements.offset]
-kind = "output_offset"
-inputs = ["VP", "VN"]
-output = "out"
-[specs]
-gain = { min = 9.95, max = 10.05 }
-offset = { min = -0.2, max = 0.2 }
-)"));
+    const Study saturating(load_design(data_path("railed_diff_amp.toml")));
     const YieldResult r = saturating.run(o);
     CHECK(r.saturated > r.samples / 40);  // enough blocks with a saturated build
     CHECK(r.saturated < r.samples / 4);   // and enough without
