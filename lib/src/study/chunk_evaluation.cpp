@@ -111,7 +111,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
     // Draw the block's builds in order: the same points as one build at a time.
     for (std::size_t b = 0; b < block; ++b) {
       const std::uint64_t i = range.first_sample + t0 + b;
-      const double* point = points_.next();
+      double* const point = points_.next_into(one_pass ? &block_points_[b * point_.size()] : point_.data());
       if (!lot_coordinates_.empty()) {
         // The lot's deviations come from a stream keyed by (seed, lot, coordinate) alone, so
         // every build of the lot sees the same ones whichever chunk it falls in.
@@ -126,15 +126,9 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
                                  : u;
           }
         }
-        std::copy(point, point + point_.size(), point_.begin());
-        for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) point_[lot_coordinates_[j]] = lot_values_[j];
-        point = point_.data();
+        for (std::size_t j = 0; j < lot_coordinates_.size(); ++j) point[lot_coordinates_[j]] = lot_values_[j];
       }
-      if (one_pass) {
-        std::copy(point, point + point_.size(), &block_points_[b * point_.size()]);
-      } else {
-        s.model.prepare(point, builds_[b]);
-      }
+      if (!one_pass) s.model.prepare(point, builds_[b]);
     }
     if (one_pass) s.model.prepare_values(block_points_.data(), block, builds_.data(), theta_.data(), p_count);
     // Evaluate each operating temperature of the block's builds side by side.

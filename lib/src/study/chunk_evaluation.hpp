@@ -43,13 +43,14 @@ class ChunkEvaluator {
   std::vector<std::vector<double>> entered_;
   std::vector<std::uint8_t> spec_ok_;
   std::vector<std::uint8_t> spec_saturated_;
-  // Builds per lot: the lot coordinates, the current lot's values of them, and the point
-  // with those values put in.
+  // Builds per lot: the lot coordinates and the current lot's values of them (put into
+  // each point drawn).
   std::vector<std::size_t> lot_coordinates_;
   std::vector<double> lot_values_;
   std::uint64_t current_lot_ = ~std::uint64_t{0};
+  // Where points are drawn: one at a time for VariationModel::prepare, or the block's
+  // points one after another for VariationModel::prepare_values.
   std::vector<double> point_;
-  // The block's points, one after another, for VariationModel::prepare_values.
   std::vector<double> block_points_;
   // Attribution: one row per evaluation of the chunk (varied parameters, measurements,
   // passed), reduced to moments at the chunk's end.

@@ -536,13 +536,14 @@ bool read_from_probes(MeasurementKind kind) {
   return false;
 }
 
-// The value of a measurement read_from_probes: probe p at probes[p * stride] (one build's
-// probes, or one lane of the lanes' probes).
-inline double read_value(const CompiledMeasurement& m, const std::complex<double>* probes,
-                         std::size_t stride, const double* theta) {
+// The value of a measurement of a kind read_from_probes (m.kind, or the same kind known
+// at compile time): probe p at probes[p * stride] (one build's probes, or one lane of the
+// lanes' probes).
+inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
+                         const std::complex<double>* probes, std::size_t stride, const double* theta) {
   const std::complex<double> first = probes[m.first * stride];
   const bool at_dc = m.frequency == 0.0;
-  switch (m.kind) {
+  switch (kind) {
     case MeasurementKind::gain:
     case MeasurementKind::differential_gain:
     case MeasurementKind::common_mode_gain:
@@ -565,7 +566,7 @@ inline double read_value(const CompiledMeasurement& m, const std::complex<double
                             (m.signal_minus == Network::npos ? 0.0 : theta[m.signal_minus]);
       const double gain = probes[m.second * stride].real();
       const double offset = first.real() - gain * signal;
-      return m.kind == MeasurementKind::output_offset ? offset : offset / gain;
+      return kind == MeasurementKind::output_offset ? offset : offset / gain;
     }
     case MeasurementKind::phase: return std::arg(first) * (180.0 / 3.14159265358979323846);
     case MeasurementKind::gain_error: {
@@ -573,6 +574,16 @@ inline double read_value(const CompiledMeasurement& m, const std::complex<double
       return (gain - m.target) / m.target;
     }
     default: return nan;
+  }
+}
+
+// Measurement m of kind K into values[l][i] for the solved lanes.
+template <MeasurementKind K>
+void read_lanes(const CompiledMeasurement& m, std::size_t i, const std::complex<double>* lane_probes,
+                const double* const* thetas, double* const* values, const unsigned char* ok,
+                std::size_t count) {
+  for (std::size_t l = 0; l < count; ++l) {
+    if (ok[l]) values[l][i] = read_value(K, m, lane_probes + l, solve_lanes, thetas[l]);
   }
 }
 
@@ -746,8 +757,23 @@ void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
   const std::size_t m_count = plan_.measurements.size();
   for (std::size_t i = 0; i < m_count; ++i) {
     const CompiledMeasurement& m = plan_.measurements[i];
-    for (std::size_t l = 0; l < count; ++l) {
-      if (ok[l]) values[l][i] = read_value(m, lane_probes_.data() + l, lanes, thetas[l]);
+    const std::complex<double>* probes = lane_probes_.data();
+    using K = MeasurementKind;
+    switch (m.kind) {  // one formula per loop over the lanes
+      case K::gain: read_lanes<K::gain>(m, i, probes, thetas, values, ok, count); break;
+      case K::differential_gain:
+        read_lanes<K::differential_gain>(m, i, probes, thetas, values, ok, count);
+        break;
+      case K::common_mode_gain:
+        read_lanes<K::common_mode_gain>(m, i, probes, thetas, values, ok, count);
+        break;
+      case K::cmrr: read_lanes<K::cmrr>(m, i, probes, thetas, values, ok, count); break;
+      case K::output_offset: read_lanes<K::output_offset>(m, i, probes, thetas, values, ok, count); break;
+      case K::input_offset: read_lanes<K::input_offset>(m, i, probes, thetas, values, ok, count); break;
+      case K::node_voltage: read_lanes<K::node_voltage>(m, i, probes, thetas, values, ok, count); break;
+      case K::phase: read_lanes<K::phase>(m, i, probes, thetas, values, ok, count); break;
+      case K::gain_error: read_lanes<K::gain_error>(m, i, probes, thetas, values, ok, count); break;
+      default: break;  // not read_from_probes: finish_lanes is not used
     }
     if (!m.linear) continue;
     // Withheld where an op-amp is beyond its limits at the operating point.
@@ -802,7 +828,7 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
         values[i] = trip_point(m, theta, i);
         break;
       default:  // read_from_probes
-        values[i] = read_value(m, probe_values_.data(), 1, theta);
+        values[i] = read_value(m.kind, m, probe_values_.data(), 1, theta);
         break;
     }
   }

@@ -205,42 +205,50 @@ void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t r
 }
 
 const double* PointStream::next() {
+  if (sampler_ == Sampler::latin_hypercube && dimension_ > 0) return &block_[position_++ * dimension_];
+  return next_into(point_.data());
+}
+
+double* PointStream::next_into(double* out) {
   switch (sampler_) {
     case Sampler::monte_carlo: {
       // Runs of common draws side by side, each other draw by Boost from the same state.
       for (std::size_t j = 0; j < dimension_;) {
         std::size_t ready = dimension_ - j;
         const std::uint64_t* outputs = peek_engine_.peek(ready);
-        const std::size_t drawn = draw_common_prefix(outputs, &normal_mask_[j], ready, &point_[j]);
+        const std::size_t drawn = draw_common_prefix(outputs, &normal_mask_[j], ready, out + j);
         peek_engine_.skip(drawn);
         j += drawn;
         if (drawn < ready) {
-          point_[j] = normal_mask_[j] != 0 ? normal_(peek_engine_) : uniform_(peek_engine_);
+          out[j] = normal_mask_[j] != 0 ? normal_(peek_engine_) : uniform_(peek_engine_);
           ++j;
         }
       }
-      return point_.data();
+      return out;
     }
     case Sampler::sobol: {
       std::size_t j = 0;
       for (const Run& run : runs_) {
         const std::size_t end = j + run.count;
         if (run.normal) {
-          for (; j < end; ++j) point_[j] = normal_quantile(to_unit(state_[j]));
+          for (; j < end; ++j) out[j] = normal_quantile(to_unit(state_[j]));
         } else {
-          for (; j < end; ++j) point_[j] = to_unit(state_[j]);
+          for (; j < end; ++j) out[j] = to_unit(state_[j]);
         }
       }
       ++index_;
       const unsigned b = lowest_bit(index_);
       for (std::size_t k = 0; k < dimension_; ++k) state_[k] ^= scrambled_[b * dimension_ + k];
-      return point_.data();
+      return out;
     }
     case Sampler::latin_hypercube:
-      if (dimension_ == 0) return point_.data();
-      return &block_[position_++ * dimension_];
+      if (dimension_ > 0) {
+        const double* point = &block_[position_++ * dimension_];
+        for (std::size_t j = 0; j < dimension_; ++j) out[j] = point[j];
+      }
+      return out;
   }
-  return point_.data();
+  return out;
 }
 
 }  // namespace detail

@@ -109,6 +109,8 @@ class PointStream {
 
   /// The next point's coordinates, valid until the next call. Allocates nothing.
   const double* next();
+  /// The next point's coordinates written into out[0, dimension); returns out.
+  double* next_into(double* out);
 
  private:
   const VariationModel& model_;
