@@ -24,8 +24,8 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
       any_saturated_(Evaluator::lanes * shape.evaluations),
       spec_ok_(shape.specs),
       spec_saturated_(shape.specs),
-      point_(study.model.dimension()),
       block_points_(Evaluator::lanes * study.model.dimension()) {
+  static_assert(Evaluator::lanes <= PointStream::most_points, "a block's points are drawn at once");
   entered_.resize(shape.measurements);
   for (auto& e : entered_) e.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations);
   for (std::size_t r = 0; r < Evaluator::lanes * shape.evaluations; ++r) {
@@ -100,6 +100,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   for (auto& e : entered_) e.clear();
   constexpr std::size_t lanes = Evaluator::lanes;
   const std::size_t p_count = s.nominal_parameters.size();
+  const std::size_t dimension = s.model.dimension();
   const double* thetas[lanes];
   double* value_rows[lanes];
   SolveStatus statuses[lanes];
@@ -109,9 +110,10 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   for (std::uint64_t t0 = 0; t0 < range.count; t0 += lanes) {
     const auto block = static_cast<std::size_t>(std::min<std::uint64_t>(lanes, range.count - t0));
     // Draw the block's builds in order: the same points as one build at a time.
+    points_.next_into(block_points_.data(), block);
     for (std::size_t b = 0; b < block; ++b) {
       const std::uint64_t i = range.first_sample + t0 + b;
-      double* const point = points_.next_into(one_pass ? &block_points_[b * point_.size()] : point_.data());
+      double* const point = &block_points_[b * dimension];
       if (!lot_coordinates_.empty()) {
         // The lot's deviations come from a stream keyed by (seed, lot, coordinate) alone, so
         // every build of the lot sees the same ones whichever chunk it falls in.

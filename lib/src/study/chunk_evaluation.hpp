@@ -48,9 +48,7 @@ class ChunkEvaluator {
   std::vector<std::size_t> lot_coordinates_;
   std::vector<double> lot_values_;
   std::uint64_t current_lot_ = ~std::uint64_t{0};
-  // Where points are drawn: one at a time for VariationModel::prepare, or the block's
-  // points one after another for VariationModel::prepare_values.
-  std::vector<double> point_;
+  // The block's points, one after another.
   std::vector<double> block_points_;
   // Attribution: one row per evaluation of the chunk (varied parameters, measurements,
   // passed), reduced to moments at the chunk's end.

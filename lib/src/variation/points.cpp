@@ -155,6 +155,12 @@ PointStream::PointStream(const VariationModel& model, Sampler sampler, std::uint
     ++runs_.back().count;
     normal_mask_.push_back(c.normal ? -1 : 0);
   }
+  // The pattern once per point of the most next_into() draws at once, and once more for a
+  // run that starts within a point.
+  for (std::size_t p = 0; p < most_points; ++p) {
+    normal_mask_.insert(normal_mask_.end(), normal_mask_.begin(),
+                        normal_mask_.begin() + static_cast<std::ptrdiff_t>(dimension_));
+  }
 }
 
 void PointStream::start(std::uint64_t seed, std::uint64_t chunk, std::uint64_t replicate,
@@ -209,42 +215,49 @@ const double* PointStream::next() {
   return next_into(point_.data());
 }
 
-double* PointStream::next_into(double* out) {
+double* PointStream::next_into(double* out, std::size_t count) {
+  if (count > most_points) throw Error("internal: more points at once than PointStream::most_points");
   switch (sampler_) {
     case Sampler::monte_carlo: {
-      // Runs of common draws side by side, each other draw by Boost from the same state.
-      for (std::size_t j = 0; j < dimension_;) {
-        std::size_t ready = dimension_ - j;
+      // Runs of common draws side by side, across the points, each other draw by Boost
+      // from the same state. Coordinate j of the run is coordinate j % dimension of its
+      // point; the mask repeats the points' pattern so a run reads it straight on.
+      const std::size_t total = count * dimension_;
+      for (std::size_t j = 0; j < total;) {
+        std::size_t ready = total - j;
         const std::uint64_t* outputs = peek_engine_.peek(ready);
-        const std::size_t drawn = draw_common_prefix(outputs, &normal_mask_[j], ready, out + j);
+        const std::int64_t* normal = &normal_mask_[j % dimension_];
+        const std::size_t drawn = draw_common_prefix(outputs, normal, ready, out + j);
         peek_engine_.skip(drawn);
         j += drawn;
         if (drawn < ready) {
-          out[j] = normal_mask_[j] != 0 ? normal_(peek_engine_) : uniform_(peek_engine_);
+          out[j] = normal[drawn] != 0 ? normal_(peek_engine_) : uniform_(peek_engine_);
           ++j;
         }
       }
       return out;
     }
-    case Sampler::sobol: {
-      std::size_t j = 0;
-      for (const Run& run : runs_) {
-        const std::size_t end = j + run.count;
-        if (run.normal) {
-          for (; j < end; ++j) out[j] = normal_quantile(to_unit(state_[j]));
-        } else {
-          for (; j < end; ++j) out[j] = to_unit(state_[j]);
+    case Sampler::sobol:
+      for (std::size_t p = 0; p < count; ++p) {
+        double* point = out + p * dimension_;
+        std::size_t j = 0;
+        for (const Run& run : runs_) {
+          const std::size_t end = j + run.count;
+          if (run.normal) {
+            for (; j < end; ++j) point[j] = normal_quantile(to_unit(state_[j]));
+          } else {
+            for (; j < end; ++j) point[j] = to_unit(state_[j]);
+          }
         }
+        ++index_;
+        const unsigned b = lowest_bit(index_);
+        for (std::size_t k = 0; k < dimension_; ++k) state_[k] ^= scrambled_[b * dimension_ + k];
       }
-      ++index_;
-      const unsigned b = lowest_bit(index_);
-      for (std::size_t k = 0; k < dimension_; ++k) state_[k] ^= scrambled_[b * dimension_ + k];
       return out;
-    }
     case Sampler::latin_hypercube:
-      if (dimension_ > 0) {
+      for (std::size_t p = 0; p < count && dimension_ > 0; ++p) {
         const double* point = &block_[position_++ * dimension_];
-        for (std::size_t j = 0; j < dimension_; ++j) out[j] = point[j];
+        for (std::size_t j = 0; j < dimension_; ++j) out[p * dimension_ + j] = point[j];
       }
       return out;
   }

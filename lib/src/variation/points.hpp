@@ -109,8 +109,12 @@ class PointStream {
 
   /// The next point's coordinates, valid until the next call. Allocates nothing.
   const double* next();
-  /// The next point's coordinates written into out[0, dimension); returns out.
-  double* next_into(double* out);
+  /// Most points next_into() draws at once.
+  static constexpr std::size_t most_points = 16;
+  /// The next `count` (up to most_points) points' coordinates written into `out`, one
+  /// point after another (dimension values each): the same points as `count` calls of
+  /// next(). Returns out. Allocates nothing.
+  double* next_into(double* out, std::size_t count = 1);
 
  private:
   const VariationModel& model_;
@@ -125,7 +129,8 @@ class PointStream {
     bool normal;
   };
   std::vector<Run> runs_;
-  std::vector<std::int64_t> normal_mask_;  // per coordinate: -1 normal, 0 uniform
+  // Per coordinate: -1 normal, 0 uniform; repeated (see next_into).
+  std::vector<std::int64_t> normal_mask_;
   PeekEngine peek_engine_;
   // monte_carlo. Both are stateless for our use: Boost's normal_distribution is a
   // ziggurat that keeps no cached second value, so draws depend only on the engine.

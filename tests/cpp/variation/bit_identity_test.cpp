@@ -328,11 +328,15 @@ TEST_CASE("monte_carlo points are Boost.Random's normal and uniform draws", "[fa
     boost::random::normal_distribution<double> normal;
     boost::random::uniform_01<double> uniform;
     std::size_t differing = 0;
-    for (std::size_t i = 0; i < count; ++i) {
-      const double* point = stream.next();
-      for (std::size_t j = 0; j < model.dimension(); ++j) {
-        const double want = model.coordinates()[j].normal ? normal(engine) : uniform(engine);
-        if (bits(point[j]) != bits(want)) ++differing;
+    // Chunk 0 one point at a time, chunk 5 in blocks of 1 to 16 points.
+    const std::size_t d = model.dimension();
+    std::vector<double> block(detail::PointStream::most_points * d);
+    for (std::size_t i = 0, n = 1; i < count; i += n, n = chunk == 0 ? 1 : n % 16 + 1) {
+      n = std::min(n, count - i);
+      const double* points = chunk == 0 ? stream.next() : stream.next_into(block.data(), n);
+      for (std::size_t j = 0; j < n * d; ++j) {
+        const double want = model.coordinates()[j % d].normal ? normal(engine) : uniform(engine);
+        if (bits(points[j]) != bits(want)) ++differing;
       }
     }
     CHECK(differing == 0);
@@ -386,4 +390,29 @@ TEST_CASE("a model of plain laws maps a point to values in one pass, bit for bit
   with_tempco.tempco = 100e-6;
   m.variations.push_back(with_tempco);
   CHECK(!detail::VariationModel(m.circuit, m.variations, m.correlations, Temperature{}).maps_in_one_pass());
+}
+
+TEST_CASE("points drawn in blocks are the points drawn one at a time", "[fast][identity]") {
+  const Mixed m;
+  const detail::VariationModel model(m.circuit, m.variations, m.correlations, Temperature{});
+  const detail::SobolDirections directions(model.dimension());
+  const std::size_t d = model.dimension();
+  constexpr std::size_t count = 3000;
+  for (Sampler sampler : {Sampler::monte_carlo, Sampler::sobol, Sampler::latin_hypercube}) {
+    INFO(to_string(sampler));
+    detail::PointStream single(model, sampler, count, &directions), blocks(model, sampler, count, &directions);
+    single.start(21, 2, 1, 0, count);
+    blocks.start(21, 2, 1, 0, count);
+    std::vector<double> block(detail::PointStream::most_points * d);
+    std::size_t differing = 0;
+    for (std::size_t i = 0, n = 1; i < count; i += n, n = n % 16 + 1) {
+      n = std::min(n, count - i);
+      blocks.next_into(block.data(), n);
+      for (std::size_t p = 0; p < n; ++p) {
+        const double* want = single.next();
+        for (std::size_t j = 0; j < d; ++j) differing += bits(block[p * d + j]) != bits(want[j]);
+      }
+    }
+    CHECK(differing == 0);
+  }
 }
