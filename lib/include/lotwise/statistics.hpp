@@ -16,6 +16,9 @@ class RunningStats {
   /// The statistics of n values at once, in two passes (the mean, then the centred
   /// squares): the state add() would reach, up to rounding, with no division per value.
   static RunningStats of(const double* values, std::size_t n);
+  /// of() for k columns of n values each (out[c] from columns[c]), the same bits; the
+  /// columns are summed side by side, so their additions overlap.
+  static void of_each(const double* const* columns, std::size_t k, std::size_t n, RunningStats* out);
 
   std::uint64_t count() const { return count_; }          ///< finite values
   std::uint64_t non_finite() const { return non_finite_; }  ///< +-inf and NaN values

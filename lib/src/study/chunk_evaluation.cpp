@@ -27,6 +27,7 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
       block_points_(Evaluator::lanes * study.model.dimension()) {
   static_assert(Evaluator::lanes <= PointStream::most_points, "a block's points are drawn at once");
   entered_.resize(shape.measurements);
+  entered_columns_.resize(shape.measurements);
   for (auto& e : entered_) e.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations);
   for (std::size_t r = 0; r < Evaluator::lanes * shape.evaluations; ++r) {
     theta_.insert(theta_.end(), study.nominal_parameters.begin(), study.nominal_parameters.end());
@@ -264,8 +265,17 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
       if (o.keep_samples) tally.pass.push_back(pass);
     }
   }
+  bool same_count = true;  // as in every chunk without withheld values
   for (std::size_t m = 0; m < m_count; ++m) {
-    tally.builds.stats[m] = RunningStats::of(entered_[m].data(), entered_[m].size());
+    same_count = same_count && entered_[m].size() == entered_[0].size();
+    entered_columns_[m] = entered_[m].data();
+  }
+  if (same_count && m_count > 0) {
+    RunningStats::of_each(entered_columns_.data(), m_count, entered_[0].size(), tally.builds.stats.data());
+  } else {
+    for (std::size_t m = 0; m < m_count; ++m) {
+      tally.builds.stats[m] = RunningStats::of(entered_[m].data(), entered_[m].size());
+    }
   }
   if (a_count > 0) attribution_moments(tally, a_count, m_count);
   return tally;

@@ -41,6 +41,7 @@ class ChunkEvaluator {
   // Per measurement, the chunk's values that entered the statistics, reduced in two
   // passes at the chunk's end (no division per value, unlike RunningStats::add).
   std::vector<std::vector<double>> entered_;
+  std::vector<const double*> entered_columns_;
   std::vector<std::uint8_t> spec_ok_;
   std::vector<std::uint8_t> spec_saturated_;
   // Builds per lot: the lot coordinates and the current lot's values of them (put into

@@ -46,15 +46,29 @@ LOTWISE_AVX2_CLONES std::size_t draw_common_prefix(const std::uint64_t* outputs,
     const f64x4 next = {width[layer[0] + 1], width[layer[1] + 1], width[layer[2] + 1],
                         width[layer[3] + 1]};
     const u64x4 fraction = (u & ~(std::uint64_t{1} << 11)) >> 8;
-    f64x4 x, uniform;
+    f64x4 x;
     to_double(&fraction, &x);
-    to_double(&u, &uniform);
     x = x * 0x1.0p-56 * w;
-    uniform *= 0x1.0p-64;
-    const f64x4 sign = (bucket & 1u) != 0 ? f64x4{1.0, 1.0, 1.0, 1.0} : f64x4{-1.0, -1.0, -1.0, -1.0};
-    const f64x4 gaussian = x * sign * 1.0 + 0.0;
-    const i64x4 ok = (is_normal & (x < next)) | (~is_normal & (uniform < 1.0));
-    const f64x4 value = is_normal != 0 ? gaussian : uniform;
+    // Boost's sign times x (times its sigma 1) is x with the sign bit flipped for an even
+    // bucket, exactly; plus its mean 0, which turns -0 into +0.
+    const u64x4 flip = ((bucket & 1u) ^ 1u) << 63;
+    u64x4 x_bits;
+    std::memcpy(&x_bits, &x, sizeof x_bits);
+    x_bits ^= flip;
+    f64x4 gaussian;
+    std::memcpy(&gaussian, &x_bits, sizeof gaussian);
+    gaussian += 0.0;
+    i64x4 ok = x < next;
+    f64x4 value = gaussian;
+    if (is_normal[0] & is_normal[1] & is_normal[2] & is_normal[3]) {
+      // all normal: no uniform draw to make
+    } else {
+      f64x4 uniform;
+      to_double(&u, &uniform);
+      uniform *= 0x1.0p-64;
+      ok = (is_normal & ok) | (~is_normal & (uniform < 1.0));
+      value = is_normal != 0 ? gaussian : uniform;
+    }
     std::memcpy(out + j, &value, sizeof value);
     if (!(ok[0] & ok[1] & ok[2] & ok[3])) {
       std::size_t l = 0;

@@ -1,6 +1,7 @@
 // Binomial intervals against published and Boost-computed values; running moments.
 #include <algorithm>
 #include <cmath>
+#include <cstring>
 #include <limits>
 #include <random>
 #include <vector>
@@ -158,6 +159,39 @@ TEST_CASE("RunningStats of a block agrees with one value at a time", "[fast][sta
   const RunningStats none = RunningStats::of(values.data(), 0);
   CHECK(none.count() == 0);
   CHECK(std::isnan(none.mean()));
+}
+
+TEST_CASE("RunningStats of columns side by side is of() on each, bit for bit", "[fast][statistics]") {
+  // Seven columns (groups of three, three and one): finite ones, one with NaN and
+  // infinities, one all NaN (no finite value), one of constant values.
+  std::mt19937_64 rng(5);
+  std::normal_distribution<double> normal(-3.0, 0.25);
+  constexpr std::size_t n = 1500;
+  std::vector<std::vector<double>> columns(7, std::vector<double>(n));
+  for (std::size_t i = 0; i < n; ++i) {
+    for (auto& column : columns) column[i] = normal(rng);
+    if (i % 101 == 3) columns[1][i] = std::numeric_limits<double>::quiet_NaN();
+    if (i % 211 == 9) columns[1][i] = -std::numeric_limits<double>::infinity();
+    columns[4][i] = std::numeric_limits<double>::quiet_NaN();
+    columns[6][i] = 0.1;
+  }
+  for (std::size_t k = 1; k <= columns.size(); ++k) {
+    std::vector<const double*> pointers;
+    for (std::size_t c = 0; c < k; ++c) pointers.push_back(columns[c].data());
+    std::vector<RunningStats> each(k);
+    RunningStats::of_each(pointers.data(), k, n, each.data());
+    for (std::size_t c = 0; c < k; ++c) {
+      INFO("k " << k << ", column " << c);
+      const RunningStats::State want = RunningStats::of(columns[c].data(), n).state();
+      const RunningStats::State got = each[c].state();
+      CHECK(got.count == want.count);
+      CHECK(got.non_finite == want.non_finite);
+      CHECK(std::memcmp(&got.mean, &want.mean, sizeof got.mean) == 0);
+      CHECK(std::memcmp(&got.m2, &want.m2, sizeof got.m2) == 0);
+      CHECK(std::memcmp(&got.min, &want.min, sizeof got.min) == 0);
+      CHECK(std::memcmp(&got.max, &want.max, sizeof got.max) == 0);
+    }
+  }
 }
 
 TEST_CASE("RunningStats keeps non-finite values apart", "[fast][statistics]") {
