@@ -301,9 +301,7 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
     const std::size_t at = entered.size();
     entered.resize(at + block);  // within the reserve
     for (std::size_t b = 0; b < block; ++b) entered[at + b] = values_[b * m_count + m];
-    if (!tally.histograms.empty()) {
-      for (std::size_t b = 0; b < block; ++b) tally.histograms[m].add(values_[b * m_count + m]);
-    }
+    if (!tally.histograms.empty()) tally.histograms[m].add(&values_[m], block, m_count);
   }
   const std::size_t p_count = s.nominal_parameters.size();
   const std::size_t a_count = shape_.attribution ? shape_.varied.size() : 0;
