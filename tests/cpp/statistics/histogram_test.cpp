@@ -1,5 +1,7 @@
 // The bounded-memory histogram: quantiles and exact, order-independent merging.
 #include <cmath>
+#include <limits>
+#include <vector>
 
 #include "test_support.hpp"
 
@@ -48,4 +50,26 @@ TEST_CASE("histogram merge is exact", "[fast][histogram]") {
   CHECK(merged.quantile(0.3) == whole.quantile(0.3));
   Histogram other(0.0, 2.0, 64);
   CHECK_THROWS_AS(merged.merge(other), Error);
+}
+
+TEST_CASE("histogram adds strided values as it adds them one by one", "[fast][histogram]") {
+  // Every case of add(): inside, below, at the top edge and above, infinities, NaN.
+  const double nan = std::numeric_limits<double>::quiet_NaN();
+  const double inf = std::numeric_limits<double>::infinity();
+  const std::vector<double> values = {0.5, -2.0, 1.0, 0.999999999999, nan, inf, -inf, 0.0, 0.25, 3.0};
+  Histogram one(0.0, 1.0, 8), strided(0.0, 1.0, 8);
+  std::vector<double> interleaved;  // each value followed by one that must not be read
+  for (double x : values) {
+    one.add(x);
+    interleaved.push_back(x);
+    interleaved.push_back(0.5);
+  }
+  strided.add(interleaved.data(), values.size(), 2);
+  CHECK(strided.counts() == one.counts());
+  CHECK(strided.below() == one.below());
+  CHECK(strided.above() == one.above());
+  CHECK(strided.total() == one.total());
+  CHECK(one.total() == 9);  // NaN is not counted
+  CHECK(one.below() == 2);
+  CHECK(one.above() == 3);
 }
