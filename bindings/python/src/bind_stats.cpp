@@ -54,7 +54,7 @@ void bind_histogram(py::module_& m) {
       .def(py::init<>())
       .def(py::init<double, double, std::size_t>(), py::arg("low"), py::arg("high"),
            py::arg("bins"))
-      .def("add", &Histogram::add, py::arg("x"))
+      .def("add", py::overload_cast<double>(&Histogram::add), py::arg("x"))
       .def("add_many",
            [](Histogram& h, const DoubleArray& values) {
              const double* v = values.data();
