@@ -121,7 +121,7 @@ def main() -> int:
             print(f"  (c) lotwise from Python, attr. {label}: not available (module not importable)")
 
     parts = {
-        "sampling (draws, prepare, apply)": rate(g["BM_inamp_part_sampling"]),
+        "sampling (a block of draws, values in one pass)": rate(g["BM_inamp_part_sampling"]),
         "evaluate one at a time (fill, factor, 3 solves, measurements)":
             rate(g["BM_inamp_part_evaluate/lanes:0"]),
         "evaluate 16 side by side (the same work)": rate(g["BM_inamp_part_evaluate/lanes:1"]),
