@@ -513,27 +513,7 @@ namespace {
 // Whether a measurement's value is read from its probes (and the source values) alone:
 // no root search, no trip-point solve.
 bool read_from_probes(MeasurementKind kind) {
-  switch (kind) {
-    case MeasurementKind::bandwidth:
-    case MeasurementKind::rising_threshold:
-    case MeasurementKind::falling_threshold:
-    case MeasurementKind::hysteresis:
-    case MeasurementKind::threshold_centre:
-    case MeasurementKind::output_high:
-    case MeasurementKind::output_low:
-      return false;
-    case MeasurementKind::gain:
-    case MeasurementKind::differential_gain:
-    case MeasurementKind::common_mode_gain:
-    case MeasurementKind::cmrr:
-    case MeasurementKind::output_offset:
-    case MeasurementKind::input_offset:
-    case MeasurementKind::node_voltage:
-    case MeasurementKind::phase:
-    case MeasurementKind::gain_error:
-      return true;
-  }
-  return false;
+  return kind != MeasurementKind::bandwidth && !is_trip_point(kind);
 }
 
 // The value of a measurement of a kind read_from_probes (m.kind, or the same kind known
@@ -573,7 +553,8 @@ inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
       const double gain = at_dc ? first.real() : std::abs(first);
       return (gain - m.target) / m.target;
     }
-    default: return nan;
+    default:  // a kind not read_from_probes: its own function computes it
+      throw Error(std::string("internal: the ") + to_string(kind) + " measurement is not read from probes");
   }
 }
 
@@ -773,7 +754,7 @@ void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
       case K::node_voltage: read_lanes<K::node_voltage>(m, i, probes, thetas, values, ok, count); break;
       case K::phase: read_lanes<K::phase>(m, i, probes, thetas, values, ok, count); break;
       case K::gain_error: read_lanes<K::gain_error>(m, i, probes, thetas, values, ok, count); break;
-      default: break;  // not read_from_probes: finish_lanes is not used
+      default: break;  // not read_from_probes: plans with such a kind do not come here
     }
     if (!m.linear) continue;
     // Withheld where an op-amp is beyond its limits at the operating point.
@@ -814,22 +795,13 @@ SolveStatus Evaluator::finish(const double* theta, double* values) {
       saturated_[i] = 1;
       continue;
     }
-    switch (m.kind) {
-      case MeasurementKind::bandwidth:
-        values[i] = bandwidth(m, theta, std::abs(probe_values_[m.first]), status);
-        if (status != SolveStatus::ok) return status;
-        break;
-      case MeasurementKind::rising_threshold:
-      case MeasurementKind::falling_threshold:
-      case MeasurementKind::hysteresis:
-      case MeasurementKind::threshold_centre:
-      case MeasurementKind::output_high:
-      case MeasurementKind::output_low:
-        values[i] = trip_point(m, theta, i);
-        break;
-      default:  // read_from_probes
-        values[i] = read_value(m.kind, m, probe_values_.data(), 1, theta);
-        break;
+    if (m.kind == MeasurementKind::bandwidth) {
+      values[i] = bandwidth(m, theta, std::abs(probe_values_[m.first]), status);
+      if (status != SolveStatus::ok) return status;
+    } else if (is_trip_point(m.kind)) {
+      values[i] = trip_point(m, theta, i);
+    } else {
+      values[i] = read_value(m.kind, m, probe_values_.data(), 1, theta);
     }
   }
   return status;
