@@ -114,7 +114,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
     points_.next_into(block_points_.data(), block);
     for (std::size_t b = 0; b < block; ++b) {
       const std::uint64_t i = range.first_sample + t0 + b;
-      double* const point = &block_points_[b * dimension];
+      double* const point = block_points_.data() + b * dimension;  // no element when dimension is 0
       if (!lot_coordinates_.empty()) {
         // The lot's deviations come from a stream keyed by (seed, lot, coordinate) alone, so
         // every build of the lot sees the same ones whichever chunk it falls in.
