@@ -56,6 +56,11 @@ auto run_controlled(RunOptions& options, const py::object& progress, const StopT
   // Safe without the GIL: `options`, `stop`, `done` and `total` live in this frame, which
   // outlives the task because every path below waits for it, and the body touches no
   // Python object (the caller keeps the objects it reads alive until we return).
+  // A token set before the run stops it before its first chunk.
+  if (token != nullptr && token->is_set()) {
+    stop.store(true);
+    if (report != nullptr) report->stopped = true;
+  }
   std::future<Result> task;
   {
     py::gil_scoped_release release;

@@ -106,9 +106,12 @@ std::string summary_table(const Study& study, const YieldResult& r) {
       << pad("Std dev", 13) << pad("Min", 13) << "Max\n";
   for (const auto& m : r.measurements) {
     const std::string unit = unit_of(m.kind);
+    // No value seen (min above max, as they start): no extremes to show.
+    const bool seen = m.stats.min() <= m.stats.max();
     out << pad(m.name, 18) << pad(unit, 6) << pad(quantity(m.nominal, unit), 13)
         << pad(quantity(m.stats.mean(), unit), 13) << pad(quantity(m.stats.std_dev(), unit), 13)
-        << pad(quantity(m.stats.min(), unit), 13) << quantity(m.stats.max(), unit) << "\n";
+        << pad(seen ? quantity(m.stats.min(), unit) : "-", 13)
+        << (seen ? quantity(m.stats.max(), unit) : "-") << "\n";
     if (m.stats.non_finite() > 0) {
       out << pad("", 18) << "(" << m.stats.non_finite() << " samples with no finite value)\n";
     }
