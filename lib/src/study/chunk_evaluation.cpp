@@ -34,8 +34,8 @@ ChunkEvaluator::ChunkEvaluator(const Study::Impl& study, const RunOptions& optio
   }
   if (shape.attribution) {
     const std::size_t a = shape.varied.size();
-    attribution_rows_.reserve(static_cast<std::size_t>(options.chunk_size) * shape.evaluations *
-                              (a + shape.measurements + 1));
+    attribution_rows_.resize(static_cast<std::size_t>(options.chunk_size) * shape.evaluations *
+                             (a + shape.measurements + 1));
     moment_scratch_.resize(3 * a);
     parameter_scratch_.resize(8 * a);
   }
@@ -97,7 +97,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
                                   evaluations * (v_count + m_count));
   }
 
-  attribution_rows_.clear();
+  attribution_filled_ = 0;
   for (auto& e : entered_) e.clear();
   constexpr std::size_t lanes = Evaluator::lanes;
   const std::size_t p_count = s.nominal_parameters.size();
@@ -230,9 +230,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
         if (a_count > 0) {
           // One row per evaluation; the chunk's attribution moments come from the rows at
           // its end. A value that did not enter the statistics enters no co-moment (NaN).
-          const std::size_t at = attribution_rows_.size();
-          attribution_rows_.resize(at + a_count + m_count + 1);  // within the reserve
-          double* out = attribution_rows_.data() + at;
+          double* out = next_attribution_row();
           for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[varied[a]];
           for (std::size_t m = 0; m < m_count; ++m) {
             const bool entered = status == SolveStatus::ok && !withheld[m];
@@ -281,6 +279,12 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   return tally;
 }
 
+double* ChunkEvaluator::next_attribution_row() {
+  double* row = attribution_rows_.data() + attribution_filled_;
+  attribution_filled_ += shape_.varied.size() + shape_.measurements + 1;
+  return row;
+}
+
 bool ChunkEvaluator::all_entered(std::size_t block) const {
   bool entered = true;
   for (std::size_t b = 0; b < block; ++b) {
@@ -316,9 +320,7 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
     tally.builds.passed += pass;
     if (a_count > 0) {
       const double* theta = &theta_[b * p_count];
-      const std::size_t at = attribution_rows_.size();
-      attribution_rows_.resize(at + a_count + m_count + 1);  // within the reserve
-      double* out = attribution_rows_.data() + at;
+      double* out = next_attribution_row();
       for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[shape_.varied[a]];
       std::copy(values, values + m_count, out + a_count);
       out[a_count + m_count] = pass ? 1.0 : 0.0;
@@ -336,7 +338,7 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
 LOTWISE_AVX2_CLONES ChunkEvaluator::Written ChunkEvaluator::common_moments(
     ChunkTally& tally, std::size_t a_count, std::size_t m_count) const {
   const std::size_t stride = a_count + m_count + 1;
-  const std::size_t rows = attribution_rows_.size() / stride;
+  const std::size_t rows = attribution_filled_ / stride;
   const double* data = attribution_rows_.data();
   std::vector<double>& acc = parameter_scratch_;  // 8 per parameter
   std::fill(acc.begin(), acc.end(), 0.0);
@@ -440,7 +442,7 @@ void ChunkEvaluator::attribution_moments(ChunkTally& tally, std::size_t a_count,
   if (written == Written::everything) return;
   const bool finite = written == Written::parameters;
   const std::size_t stride = a_count + m_count + 1;
-  const std::size_t rows = attribution_rows_.size() / stride;
+  const std::size_t rows = attribution_filled_ / stride;
   const double* data = attribution_rows_.data();
   for (std::size_t a = 0; a < a_count && !finite; ++a) {
     for (const bool failing_only : {false, true}) {

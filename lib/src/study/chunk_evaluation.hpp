@@ -53,7 +53,10 @@ class ChunkEvaluator {
   std::vector<double> block_points_;
   // Attribution: one row per evaluation of the chunk (varied parameters, measurements,
   // passed), reduced to moments at the chunk's end.
-  std::vector<double> attribution_rows_;
+  std::vector<double> attribution_rows_;  // sized for a whole chunk once
+  std::size_t attribution_filled_ = 0;     // values written in this chunk
+  /// The next row's place (written in place: no resize, which would clear it first).
+  double* next_attribution_row();
   mutable std::vector<double> moment_scratch_;
   mutable std::vector<double> parameter_scratch_;
   /// Whether every build of the block (one evaluation each) solved and had every value
