@@ -310,7 +310,7 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
   const std::size_t p_count = s.nominal_parameters.size();
   const std::size_t a_count = shape_.attribution ? shape_.varied.size() : 0;
   for (std::size_t b = 0; b < block; ++b) {
-    const double* values = &values_[b * m_count];
+    const double* values = values_.data() + b * m_count;
     bool pass = true;
     for (std::size_t j = 0; j < spec_count; ++j) {
       const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);

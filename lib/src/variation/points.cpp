@@ -157,9 +157,9 @@ PointStream::PointStream(const VariationModel& model, Sampler sampler, std::uint
   }
   // The pattern once per point of the most next_into() draws at once, and once more for a
   // run that starts within a point.
+  const std::vector<std::int64_t> pattern = normal_mask_;
   for (std::size_t p = 0; p < most_points; ++p) {
-    normal_mask_.insert(normal_mask_.end(), normal_mask_.begin(),
-                        normal_mask_.begin() + static_cast<std::ptrdiff_t>(dimension_));
+    normal_mask_.insert(normal_mask_.end(), pattern.begin(), pattern.end());
   }
 }
 
