@@ -56,11 +56,13 @@ auto run_controlled(RunOptions& options, const py::object& progress, const StopT
   // Safe without the GIL: `options`, `stop`, `done` and `total` live in this frame, which
   // outlives the task because every path below waits for it, and the body touches no
   // Python object (the caller keeps the objects it reads alive until we return).
-  // A token set before the run stops it before its first chunk.
-  if (token != nullptr && token->is_set()) {
-    stop.store(true);
-    if (report != nullptr) report->stopped = true;
-  }
+  auto check_token = [&] {
+    if (token != nullptr && token->is_set() && !stop.load()) {
+      stop.store(true);
+      if (report != nullptr) report->stopped = true;
+    }
+  };
+  check_token();  // a token set before the run stops it before its first chunk
   std::future<Result> task;
   {
     py::gil_scoped_release release;
@@ -78,10 +80,7 @@ auto run_controlled(RunOptions& options, const py::object& progress, const StopT
       py::gil_scoped_release release;
       ready = task.wait_for(poll_interval) == std::future_status::ready;
     }
-    if (token != nullptr && token->is_set() && !stop.load()) {
-      stop.store(true);
-      if (report != nullptr) report->stopped = true;
-    }
+    check_token();
     if (PyErr_CheckSignals() != 0) {
       if (PyErr_ExceptionMatches(PyExc_KeyboardInterrupt) && report != nullptr) {
         // Ctrl-C: stop the workers and return what is done; the caller warns.

@@ -108,6 +108,10 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   points_.start(o.seed, k, range.replicate, range.begin, static_cast<std::size_t>(range.count));
   // Values straight from the point when they do not depend on the temperature.
   const bool one_pass = evaluations == 1 && s.model.maps_in_one_pass();
+  // Blocks may take tally_entered_block unless the chunk keeps more than build-wide counts
+  // (temperatures, lots, raw values, kept rows).
+  const bool plain_chunk = evaluations == 1 && sweep == 0 && o.builds_per_lot == 0 && !pilot &&
+                           !o.keep_samples;
   for (std::uint64_t t0 = 0; t0 < range.count; t0 += lanes) {
     const auto block = static_cast<std::size_t>(std::min<std::uint64_t>(lanes, range.count - t0));
     // Draw the block's builds in order: the same points as one build at a time.
@@ -156,10 +160,7 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
     }
     // Tally in build order, exactly as one build at a time; a block with nothing but
     // entered values and build-wide counts, measurement by measurement.
-    const bool plain_block = evaluations == 1 && sweep == 0 && o.builds_per_lot == 0 && !pilot &&
-                             !o.keep_samples && range.first_sample + t0 >= regression_end &&
-                             all_entered(block);
-    if (plain_block) {
+    if (plain_chunk && range.first_sample + t0 >= regression_end && all_entered(block)) {
       tally_entered_block(tally, block);
       continue;
     }

@@ -726,14 +726,11 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
 void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
                              SolveStatus* statuses, const unsigned char* ok, std::size_t count) {
   std::size_t saturated[lanes];
-  for (std::size_t l = 0; l < count; ++l) saturated[l] = Network::npos;
-  for (const LimitCheck& check : plan_.limit_checks) {
-    for (std::size_t l = 0; l < count; ++l) {
-      if (!ok[l]) continue;
-      const double v = lane_probes_[check.probe * lanes + l].real();
-      const OutputLimits limits = network_.output_limits(thetas[l], check.element);
-      if (v > limits.high || v < limits.low) saturated[l] = check.element;
-    }
+  const bool limited = !plan_.limit_checks.empty();  // else no call per lane
+  for (std::size_t l = 0; l < count; ++l) {
+    saturated[l] = ok[l] && limited
+                       ? saturated_at_operating_point(thetas[l], lane_probes_.data() + l, lanes)
+                       : Network::npos;
   }
   const std::size_t m_count = plan_.measurements.size();
   for (std::size_t i = 0; i < m_count; ++i) {
@@ -773,20 +770,24 @@ void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
   }
 }
 
+std::size_t Evaluator::saturated_at_operating_point(const double* theta,
+                                                    const std::complex<double>* probes,
+                                                    std::size_t stride) const {
+  std::size_t saturated = Network::npos;  // the last op-amp found beyond its limits
+  for (const LimitCheck& check : plan_.limit_checks) {
+    const double v = probes[check.probe * stride].real();
+    const OutputLimits l = network_.output_limits(theta, check.element);
+    if (v > l.high || v < l.low) saturated = check.element;
+  }
+  return saturated;
+}
+
 SolveStatus Evaluator::finish(const double* theta, double* values) {
   // An op-amp beyond its limits at the operating point: the linear model no longer
   // describes the circuit, so every linear measurement is withheld.
   std::fill(saturated_.begin(), saturated_.end(), static_cast<unsigned char>(0));
-  saturated_opamp_ = Network::npos;
-  bool operating_point_saturated = false;
-  for (const LimitCheck& check : plan_.limit_checks) {
-    const double v = probe_values_[check.probe].real();
-    const OutputLimits l = network_.output_limits(theta, check.element);
-    if (v > l.high || v < l.low) {
-      operating_point_saturated = true;
-      saturated_opamp_ = check.element;
-    }
-  }
+  saturated_opamp_ = saturated_at_operating_point(theta, probe_values_.data(), 1);
+  const bool operating_point_saturated = saturated_opamp_ != Network::npos;
   SolveStatus status = SolveStatus::ok;
   for (std::size_t i = 0; i < plan_.measurements.size(); ++i) {
     const CompiledMeasurement& m = plan_.measurements[i];

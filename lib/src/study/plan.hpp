@@ -143,6 +143,11 @@ class Evaluator {
  private:
   /// The measurements from probe_values_ (filled by the solves for `theta`).
   SolveStatus finish(const double* theta, double* values);
+  /// The op-amp element beyond its output limits at the operating point (the last such
+  /// in the plan's limit checks), or npos: probe p at probes[p * stride] (one build's
+  /// probes, or one lane of the lanes' probes).
+  std::size_t saturated_at_operating_point(const double* theta, const std::complex<double>* probes,
+                                           std::size_t stride) const;
   /// finish() for the solved lanes (ok[l]) when reads_lanes_, with lane l's flags kept.
   void finish_lanes(const double* const* thetas, double* const* values, SolveStatus* statuses,
                     const unsigned char* ok, std::size_t count);

@@ -377,22 +377,19 @@ void VariationModel::prepare_values(const double* points, std::size_t count, Bui
   // prepare()'s plain terms and apply()'s nominal + deviation, the same operations; one
   // term across the builds keeps its constants in registers.
   const std::size_t d = dimension();
-  for (const PlainValue& t : value_normal_) {
-    const double* x = points + t.coordinate;
-    double* out = theta + t.parameter;
-    const double nominal = t.nominal, spread = t.spread, scale = t.scale;
-    for (std::size_t b = 0; b < count; ++b) {
-      out[b * theta_stride] = nominal + ((spread * x[b * d]) * scale + 0.0);
+  // The law's standard deviate from the coordinate: z itself, or 2u - 1.
+  auto map = [&](const std::vector<PlainValue>& terms, auto deviate) {
+    for (const PlainValue& t : terms) {
+      const double* x = points + t.coordinate;
+      double* out = theta + t.parameter;
+      const double nominal = t.nominal, spread = t.spread, scale = t.scale;
+      for (std::size_t b = 0; b < count; ++b) {
+        out[b * theta_stride] = nominal + ((spread * deviate(x[b * d])) * scale + 0.0);
+      }
     }
-  }
-  for (const PlainValue& t : value_uniform_) {
-    const double* x = points + t.coordinate;
-    double* out = theta + t.parameter;
-    const double nominal = t.nominal, spread = t.spread, scale = t.scale;
-    for (std::size_t b = 0; b < count; ++b) {
-      out[b * theta_stride] = nominal + ((spread * (2.0 * x[b * d] - 1.0)) * scale + 0.0);
-    }
-  }
+  };
+  map(value_normal_, [](double z) { return z; });
+  map(value_uniform_, [](double u) { return 2.0 * u - 1.0; });
   if (temperature_coordinate_ != npos) {
     for (std::size_t b = 0; b < count; ++b) {
       scratch[b].temperature =

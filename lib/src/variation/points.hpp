@@ -67,8 +67,6 @@ class PeekEngine {
     if (i_ == n) refill();
     return out_[i_];
   }
-  /// Takes the output peek() gave.
-  void skip() { ++i_; }
   /// The next outputs, not taken: `count` of them, or as many as the current block
   /// still holds if fewer (then `count` is lowered to that, never to 0).
   const result_type* peek(std::size_t& count) {
@@ -123,7 +121,7 @@ class PointStream {
   std::size_t dimension_;
   std::vector<double> point_;
   Engine engine_;  // latin_hypercube
-  // monte_carlo and sobol: the coordinates as runs of one kind (normal or not), in order.
+  // sobol: the coordinates as runs of one kind (normal or not), in order.
   struct Run {
     std::size_t count;
     bool normal;
