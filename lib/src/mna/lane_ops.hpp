@@ -11,6 +11,9 @@
 #include <cstddef>
 #include <cstdint>
 #include <limits>
+#include <type_traits>
+
+#include "mna/slot_fill.hpp"
 
 namespace lotwise::detail {
 
@@ -62,6 +65,33 @@ inline void lanes_reciprocal(T* __restrict out, const T* __restrict x) {
 template <std::size_t L, typename T>
 inline void lanes_max_magnitude2(double* __restrict out, const T* __restrict x) {
   for (std::size_t l = 0; l < L; ++l) out[l] = std::max(out[l], magnitude2(x[l]));
+}
+
+/// Sets each slot of `fills` to its start value `initial[slot]` plus its terms, in order
+/// (factor times the parameter's lanes in `theta` or its reciprocal's in `reciprocal`,
+/// times j frequency for the imaginary kinds), and takes scale2 = max(scale2, |v|^2) over
+/// the slots with terms.
+template <std::size_t L, typename T>
+inline void lanes_fill_slots(const SlotFill* fills, std::size_t count, const SlotTerm* terms,
+                             const T* initial, const double* reciprocal, const double* theta,
+                             double frequency, T* __restrict v, double* __restrict scale2) {
+  (void)frequency;  // real lanes have no imaginary terms
+  for (std::size_t i = 0; i < count; ++i) {
+    const SlotFill& fill = fills[i];
+    T* out = v + static_cast<std::size_t>(fill.slot) * L;
+    lanes_set<L>(out, initial[fill.slot]);
+    for (std::uint32_t k = fill.begin; k < fill.end; ++k) {
+      const SlotTerm& t = terms[k];
+      const bool inverse = t.kind == SlotTerm::real_reciprocal || t.kind == SlotTerm::imag_reciprocal;
+      const double* x = (inverse ? reciprocal : theta) + t.index * L;
+      if (t.kind == SlotTerm::real_reciprocal || t.kind == SlotTerm::real_value) {
+        lanes_add_scaled<L>(out, t.factor, x);
+      } else if constexpr (!std::is_same<T, double>::value) {
+        for (std::size_t l = 0; l < L; ++l) out[l] += T(0.0, frequency * t.factor * x[l]);
+      }
+    }
+    if (fill.end > fill.begin) lanes_max_magnitude2<L>(scale2, out);
+  }
 }
 
 /// Clears good[l] (an all-ones or zero mask) where pivot p[l] fails PatternLU::factor()'s
@@ -193,6 +223,40 @@ inline void lanes_check_pivot(std::int64_t* __restrict good, const double* __res
     mask_load(g, good + l);
     const Pack p2 = v * v;
     mask_store(good + l, g & ((p2 > t) & (p2 >= u * c) & (p2 < top)));
+  }
+}
+
+/// lanes_fill_slots for real lanes: each slot summed in registers and stored once.
+template <std::size_t L>
+inline void lanes_fill_slots(const SlotFill* fills, std::size_t count, const SlotTerm* terms,
+                             const double* initial, const double* reciprocal,
+                             const double* theta, double /*frequency*/, double* __restrict v,
+                             double* __restrict scale2) {
+  static_assert(L == 4 * pack_width, "four vectors per slot");
+  for (std::size_t i = 0; i < count; ++i) {
+    const SlotFill& fill = fills[i];
+    const double start = initial[fill.slot];
+    Pack s0 = {start, start, start, start}, s1 = s0, s2 = s0, s3 = s0;
+    for (std::uint32_t k = fill.begin; k < fill.end; ++k) {
+      const SlotTerm& t = terms[k];
+      const double* x = (t.kind == SlotTerm::real_reciprocal ? reciprocal : theta) + t.index * L;
+      const Pack f = {t.factor, t.factor, t.factor, t.factor};
+      Pack y;
+      pack_load(y, x);
+      s0 = s0 + f * y;
+      pack_load(y, x + 4);
+      s1 = s1 + f * y;
+      pack_load(y, x + 8);
+      s2 = s2 + f * y;
+      pack_load(y, x + 12);
+      s3 = s3 + f * y;
+    }
+    double* out = v + static_cast<std::size_t>(fill.slot) * L;
+    pack_store(out, s0);
+    pack_store(out + 4, s1);
+    pack_store(out + 8, s2);
+    pack_store(out + 12, s3);
+    if (fill.end > fill.begin) lanes_max_magnitude2<L>(scale2, out);
   }
 }
 

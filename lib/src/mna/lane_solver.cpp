@@ -135,6 +135,20 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
     }
     lanes.schedule = LaneSchedule<T>(lu, start, varies, read);
     if (!lanes.schedule.usable()) usable_ = false;
+    std::vector<std::vector<SlotTerm>> by_slot(lu.nonzeros());
+    auto group = [&](const std::vector<FillTerm>& terms, SlotTerm::Kind kind) {
+      for (const FillTerm& t : terms) by_slot[t.slot].push_back(SlotTerm{kind, t.index, t.factor});
+    };
+    group(lanes.terms.real_reciprocal, SlotTerm::real_reciprocal);
+    group(lanes.terms.real_value, SlotTerm::real_value);
+    group(lanes.terms.imag_value, SlotTerm::imag_value);
+    group(lanes.terms.imag_reciprocal, SlotTerm::imag_reciprocal);
+    for (const std::uint32_t slot : lanes.schedule.refill()) {
+      const auto begin = static_cast<std::uint32_t>(lanes.slot_terms.size());
+      lanes.slot_terms.insert(lanes.slot_terms.end(), by_slot[slot].begin(), by_slot[slot].end());
+      lanes.slot_fills.push_back(
+          SlotFill{slot, begin, static_cast<std::uint32_t>(lanes.slot_terms.size())});
+    }
     const auto& initial = lanes.schedule.initial();
     lanes.values.resize(lu.nonzeros() * L);
     for (std::size_t s = 0; s < lu.nonzeros(); ++s) lanes_set<L>(&lanes.values[s * L], initial[s]);
@@ -213,34 +227,17 @@ void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   const auto& schedule = lanes.schedule;
   T* v = lanes.values.data();
   const T* initial = schedule.initial().data();
-  for (const std::uint32_t s : schedule.refill()) lanes_set<L>(v + s * L, initial[s]);
   double* r = lanes.reciprocal.data();
   for (std::size_t k = 0; k < f.inverse.size(); ++k) {
     lanes_reciprocal<L>(r + k * L, &theta_[f.inverse[k] * L]);
   }
-  for (const auto& t : f.real_reciprocal) lanes_add_scaled<L>(v + t.slot * L, t.factor, r + t.index * L);
-  for (const auto& t : f.real_value) {
-    lanes_add_scaled<L>(v + t.slot * L, t.factor, theta_.data() + t.index * L);
-  }
-  if constexpr (!std::is_same<T, double>::value) {
-    const double frequency = lanes.frequency;
-    for (const auto& t : f.imag_value) {
-      for (std::size_t l = 0; l < L; ++l) {
-        v[t.slot * L + l] += T(0.0, frequency * t.factor * theta_[t.index * L + l]);
-      }
-    }
-    for (const auto& t : f.imag_reciprocal) {
-      for (std::size_t l = 0; l < L; ++l) {
-        v[t.slot * L + l] += T(0.0, frequency * t.factor * r[t.index * L + l]);
-      }
-    }
-  }
-  // The dense path's singularity scale, n eps max |a_ij|, per lane.
+  // The dense path's singularity scale, n eps max |a_ij|, per lane. The maximum is exact
+  // and NaN never enters it, so the constants' part taken once and the changing slots'
+  // as they are summed give the same value as a pass over every entry.
   double scale2[L];
-  // The maximum is exact and NaN never enters it, so taking the constants' part once
-  // gives the same value as a pass over every entry.
   for (std::size_t l = 0; l < L; ++l) scale2[l] = lanes.constant_scale2;
-  for (const std::uint32_t s : lanes.varying) lanes_max_magnitude2<L>(scale2, v + s * L);
+  lanes_fill_slots<L>(lanes.slot_fills.data(), lanes.slot_fills.size(), lanes.slot_terms.data(),
+                      initial, r, theta_.data(), lanes.frequency, v, scale2);
   const auto& lu = lanes.pattern->lu;
   const double n_eps = static_cast<double>(lu.size()) * std::numeric_limits<double>::epsilon();
   double tiny[L];

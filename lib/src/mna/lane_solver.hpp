@@ -38,6 +38,11 @@ struct LaneAnalysis {
   /// Reciprocal terms index `terms.inverse`; `constants` and `reciprocal` stay empty
   /// (the schedule's initial values and `reciprocal` below take their places).
   PatternFill<T> terms;
+  /// The same terms grouped by slot (each slot's in the fill's order, so its sum rounds
+  /// as in the one-at-a-time fill), with every slot the schedule refills: each slot is
+  /// summed in registers and stored once.
+  std::vector<SlotFill> slot_fills;
+  std::vector<SlotTerm> slot_terms;
   std::vector<T> values;                 ///< nonzeros x lanes
   /// Slots the terms add to, and the largest |value|^2 of the others: the matrix's
   /// largest entry (for the singularity test) is the larger of the two maxima.

@@ -205,7 +205,6 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
             entered_[m].push_back(values[m]);
             if (here) here->stats[m].add(values[m]);
             if (lot_stats) lot_stats->stats[m].add(values[m]);
-            if (!tally.histograms.empty()) tally.histograms[m].add(values[m]);
             if (pilot) tally.pilot.push_back(values[m]);
           }
           for (std::size_t j = 0; j < spec_count; ++j) {
@@ -264,6 +263,11 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
       if (o.keep_samples) tally.pass.push_back(pass);
     }
   }
+  // The histograms hold exactly the values that entered, added here a measurement at a
+  // time: one histogram's counts in cache at once, not all of them through the chunk.
+  for (std::size_t m = 0; m < tally.histograms.size(); ++m) {
+    tally.histograms[m].add(entered_[m].data(), entered_[m].size(), 1);
+  }
   bool same_count = true;  // as in every chunk without withheld values
   for (std::size_t m = 0; m < m_count; ++m) {
     same_count = same_count && entered_[m].size() == entered_[0].size();
@@ -306,7 +310,6 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
     const std::size_t at = entered.size();
     entered.resize(at + block);  // within the reserve
     for (std::size_t b = 0; b < block; ++b) entered[at + b] = values_[b * m_count + m];
-    if (!tally.histograms.empty()) tally.histograms[m].add(&values_[m], block, m_count);
   }
   const std::size_t p_count = s.nominal_parameters.size();
   const std::size_t a_count = shape_.attribution ? shape_.varied.size() : 0;
