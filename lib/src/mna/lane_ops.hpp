@@ -82,8 +82,7 @@ inline void lanes_fill_slots(const SlotFill* fills, std::size_t count, const Slo
     lanes_set<L>(out, initial[fill.slot]);
     for (std::uint32_t k = fill.begin; k < fill.end; ++k) {
       const SlotTerm& t = terms[k];
-      const bool inverse = t.kind == SlotTerm::real_reciprocal || t.kind == SlotTerm::imag_reciprocal;
-      const double* x = (inverse ? reciprocal : theta) + t.index * L;
+      const double* x = (reads_reciprocal(t.kind) ? reciprocal : theta) + t.index * L;
       if (t.kind == SlotTerm::real_reciprocal || t.kind == SlotTerm::real_value) {
         lanes_add_scaled<L>(out, t.factor, x);
       } else if constexpr (!std::is_same<T, double>::value) {

@@ -107,7 +107,10 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
     fill_values(fill, nominal_.data(), frequency, start.data(), r.data());
     std::vector<std::uint32_t> index_of(fill.inverse.size(), 0);
     std::vector<unsigned char> indexed(fill.inverse.size(), 0);
-    auto keep = [&](const std::vector<FillTerm>& from, std::vector<FillTerm>& to, bool reciprocal) {
+    // The terms of the changing slots, grouped by slot in the fill's order.
+    std::vector<std::vector<SlotTerm>> by_slot(lu.nonzeros());
+    auto keep = [&](const std::vector<FillTerm>& from, SlotTerm::Kind kind) {
+      const bool reciprocal = reads_reciprocal(kind);
       for (FillTerm t : from) {
         if (!varies[t.slot]) continue;
         if (reciprocal) {
@@ -118,31 +121,22 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
           }
           t.index = index_of[t.index];
         }
-        to.push_back(t);
+        by_slot[t.slot].push_back(SlotTerm{kind, t.index, t.factor});
       }
     };
-    keep(fill.real_reciprocal, lanes.terms.real_reciprocal, true);
-    keep(fill.real_value, lanes.terms.real_value, false);
-    keep(fill.imag_value, lanes.terms.imag_value, false);
-    keep(fill.imag_reciprocal, lanes.terms.imag_reciprocal, true);
+    keep(fill.real_reciprocal, SlotTerm::real_reciprocal);
+    keep(fill.real_value, SlotTerm::real_value);
+    keep(fill.imag_value, SlotTerm::imag_value);
+    keep(fill.imag_reciprocal, SlotTerm::imag_reciprocal);
     for (std::size_t s = 0; s < lu.nonzeros(); ++s) {
       if (varies[s]) {
         start[s] = fill.constants[s];
-        lanes.varying.push_back(static_cast<std::uint32_t>(s));
       } else {
         lanes.constant_scale2 = std::max(lanes.constant_scale2, magnitude2(start[s]));
       }
     }
     lanes.schedule = LaneSchedule<T>(lu, start, varies, read);
     if (!lanes.schedule.usable()) usable_ = false;
-    std::vector<std::vector<SlotTerm>> by_slot(lu.nonzeros());
-    auto group = [&](const std::vector<FillTerm>& terms, SlotTerm::Kind kind) {
-      for (const FillTerm& t : terms) by_slot[t.slot].push_back(SlotTerm{kind, t.index, t.factor});
-    };
-    group(lanes.terms.real_reciprocal, SlotTerm::real_reciprocal);
-    group(lanes.terms.real_value, SlotTerm::real_value);
-    group(lanes.terms.imag_value, SlotTerm::imag_value);
-    group(lanes.terms.imag_reciprocal, SlotTerm::imag_reciprocal);
     for (const std::uint32_t slot : lanes.schedule.refill()) {
       const auto begin = static_cast<std::uint32_t>(lanes.slot_terms.size());
       lanes.slot_terms.insert(lanes.slot_terms.end(), by_slot[slot].begin(), by_slot[slot].end());

@@ -33,20 +33,19 @@ struct LaneAnalysis {
   double frequency = 0.0;
   std::size_t excitations = 0;
   std::vector<RhsOp> rhs;                ///< every excitation's operations, in order
-  /// The fill's terms on the slots that change between loads (every term of such a
-  /// slot, in the fill's order); the others are part of the schedule's constants.
-  /// Reciprocal terms index `terms.inverse`; `constants` and `reciprocal` stay empty
-  /// (the schedule's initial values and `reciprocal` below take their places).
+  /// The parameters whose reciprocals the fill reads (`reciprocal` below, in this
+  /// order); the rest of PatternFill stays empty.
   PatternFill<T> terms;
-  /// The same terms grouped by slot (each slot's in the fill's order, so its sum rounds
-  /// as in the one-at-a-time fill), with every slot the schedule refills: each slot is
-  /// summed in registers and stored once.
+  /// The fill's terms on the slots that change between loads (every term of such a
+  /// slot), grouped by slot, each slot's in the fill's order so that its sum rounds as in
+  /// the one-at-a-time fill; reciprocal terms index `reciprocal`. Every slot the schedule
+  /// refills has an entry (the others are part of its constants): each is summed in
+  /// registers from its start value and stored once.
   std::vector<SlotFill> slot_fills;
   std::vector<SlotTerm> slot_terms;
   std::vector<T> values;                 ///< nonzeros x lanes
-  /// Slots the terms add to, and the largest |value|^2 of the others: the matrix's
-  /// largest entry (for the singularity test) is the larger of the two maxima.
-  std::vector<std::uint32_t> varying;
+  /// The largest |value|^2 of the slots no term adds to: the matrix's largest entry
+  /// (for the singularity test) is the larger of this and the filled slots' maximum.
   double constant_scale2 = 0.0;
   std::vector<T> inverse;                ///< pivot inverses, size x lanes
   std::vector<double> reciprocal;        ///< the terms' reciprocals, x lanes

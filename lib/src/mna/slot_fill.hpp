@@ -12,6 +12,11 @@ struct SlotTerm {
   double factor;
 };
 
+/// Whether a term of this kind reads the parameter's reciprocal.
+inline bool reads_reciprocal(SlotTerm::Kind kind) {
+  return kind == SlotTerm::real_reciprocal || kind == SlotTerm::imag_reciprocal;
+}
+
 /// A slot set back before each factorisation: its start value plus its terms.
 struct SlotFill {
   std::uint32_t slot;
