@@ -7,6 +7,11 @@
 #if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__) && \
     !defined(LOTWISE_NO_CPU_CLONES)
 #define LOTWISE_AVX2_CLONES __attribute__((target_clones("avx2", "default"), flatten))
+// For loops of integer operations only, where no contraction into fused multiply-adds can
+// arise: an AVX-512 clone as well.
+#define LOTWISE_INTEGER_CLONES \
+  __attribute__((target_clones("avx512f", "avx2", "default"), flatten))
 #else
 #define LOTWISE_AVX2_CLONES
+#define LOTWISE_INTEGER_CLONES
 #endif

@@ -106,7 +106,7 @@ void PeekEngine::seed(std::uint64_t value) {
   i_ = n;
 }
 
-LOTWISE_AVX2_CLONES void PeekEngine::refill() {
+LOTWISE_INTEGER_CLONES void PeekEngine::refill() {
   constexpr std::size_t m = Engine::shift_size;
   constexpr std::uint64_t upper = ~std::uint64_t{0} << Engine::mask_bits;
   constexpr std::uint64_t lower = ~upper;
