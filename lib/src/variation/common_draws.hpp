@@ -2,10 +2,12 @@
 // Private: the monte_carlo sampler's common case, several coordinates at once. A common
 // draw takes one engine output: for a normal coordinate the ziggurat's first-try
 // acceptance (about 97 % of draws), for a uniform one Boost's uniform_01 below 1. Runs of
-// common draws are made side by side, bit for bit the values Boost.Random gives one draw
-// at a time; the sampler draws the rest one by one with Boost.
+// common draws are made side by side (4 or 8 at a time, by what the processor has), bit
+// for bit the values Boost.Random gives one draw at a time; the sampler draws the rest
+// one by one with Boost.
 #include <cstddef>
 #include <cstdint>
+#include <vector>
 
 #include <boost/random/normal_distribution.hpp>
 
@@ -38,5 +40,14 @@ inline bool draw_common(std::uint64_t u, bool normal, double* out) {
 /// when all); `out` past them is unspecified.
 std::size_t draw_common_prefix(const std::uint64_t* outputs, const std::int64_t* normal,
                                std::size_t count, double* out);
+
+/// The ways draw_common_prefix can run: portable vectors, AVX2, AVX-512 (F and DQ).
+/// All give the same values; the fastest this machine has is used.
+enum class DrawPath { portable, avx2, avx512 };
+/// The paths this build can take on this machine (portable always).
+std::vector<DrawPath> draw_paths_here();
+/// draw_common_prefix along one of draw_paths_here() (for tests).
+std::size_t draw_common_prefix(DrawPath path, const std::uint64_t* outputs,
+                               const std::int64_t* normal, std::size_t count, double* out);
 
 }  // namespace lotwise::detail

@@ -14,6 +14,7 @@
 #include <boost/random/normal_distribution.hpp>
 #include <boost/random/uniform_01.hpp>
 
+#include "variation/common_draws.hpp"
 #include "variation/sampler.hpp"
 #include "variation/spread.hpp"
 #include "variation_support.hpp"
@@ -309,6 +310,51 @@ TEST_CASE("the fast engine gives mt19937_64's outputs", "[fast][identity]") {
       if (engine() != boost_engine()) ++differing;
     }
     CHECK(differing == 0);
+  }
+}
+
+TEST_CASE("every draw path this machine has makes the common draws one by one would",
+          "[fast][identity]") {
+  // Outputs of mt19937_64 with normal and uniform coordinates mixed, some uniform ones
+  // forced to 2^64 - 1 (uniform_01 gives 1 from it, which it rejects); prefixes of many
+  // starts and lengths, so that vectors are cut by rejections and by the end.
+  detail::Engine engine(2024);
+  constexpr std::size_t n = 4096;
+  std::vector<std::uint64_t> outputs(n);
+  std::vector<std::int64_t> kinds(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    outputs[i] = engine();
+    const bool uniform = i % 7 == 3 || i % 11 == 0;
+    kinds[i] = uniform ? 0 : -1;
+    if (uniform && i % 5 == 0) outputs[i] = ~std::uint64_t{0};
+  }
+  const std::vector<detail::DrawPath> paths = detail::draw_paths_here();
+  CHECK(paths.front() == detail::DrawPath::portable);
+  for (const detail::DrawPath path : paths) {
+    CAPTURE(static_cast<int>(path));
+    std::size_t differing = 0, wrong_length = 0, cut = 0;
+    std::vector<double> out(n);
+    for (std::size_t start = 0; start < n; start += 37) {
+      for (std::size_t length : {1, 3, 4, 5, 8, 9, 16, 61, 4096}) {
+        const std::size_t count = std::min(length, n - start);
+        const std::size_t got =
+            detail::draw_common_prefix(path, &outputs[start], &kinds[start], count, out.data());
+        std::size_t want = count;
+        for (std::size_t j = 0; j < count; ++j) {
+          double value = 0.0;
+          if (!detail::draw_common(outputs[start + j], kinds[start + j] != 0, &value)) {
+            want = j;
+            break;
+          }
+          if (j < got && bits(out[j]) != bits(value)) ++differing;
+        }
+        wrong_length += got != want;
+        cut += want < count;
+      }
+    }
+    CHECK(differing == 0);
+    CHECK(wrong_length == 0);
+    CHECK(cut > 100);  // rejections were met
   }
 }
 
