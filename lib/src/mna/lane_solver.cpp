@@ -186,7 +186,14 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
   }
 }
 
-LOTWISE_AVX2_CLONES void LaneSolver::load(const double* const* thetas, std::size_t count) {
+// The public entry points are plain functions calling clones of this file: GCC's
+// link-time optimisation reports a function compiled per processor (target_clones) and
+// called from another file as breaking the one-definition rule.
+void LaneSolver::load(const double* const* thetas, std::size_t count) { load_lanes(thetas, count); }
+
+void LaneSolver::check(unsigned char* ok) const { check_lanes(ok); }
+
+LOTWISE_AVX2_CLONES void LaneSolver::load_lanes(const double* const* thetas, std::size_t count) {
   const double* from[L];
   for (std::size_t l = 0; l < L; ++l) from[l] = thetas[l < count ? l : 0];
   for (const std::size_t p : changing_) {
@@ -195,7 +202,7 @@ LOTWISE_AVX2_CLONES void LaneSolver::load(const double* const* thetas, std::size
   }
 }
 
-LOTWISE_AVX2_CLONES void LaneSolver::check(unsigned char* ok) const {
+LOTWISE_AVX2_CLONES void LaneSolver::check_lanes(unsigned char* ok) const {
   // In range: finite, and above 0 where only positive values are physical; as masks,
   // without branches (a NaN fails both comparisons).
   constexpr double inf = std::numeric_limits<double>::infinity();

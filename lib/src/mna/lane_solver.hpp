@@ -97,6 +97,8 @@ class LaneSolver {
   template <typename T>
   void run(LaneAnalysis<T>& lanes, unsigned char* ok);
   void run_dc(LaneAnalysis<double>& lanes, unsigned char* ok);
+  void load_lanes(const double* const* thetas, std::size_t count);
+  void check_lanes(unsigned char* ok) const;
   void run_ac(LaneAnalysis<std::complex<double>>& lanes, unsigned char* ok);
 
   const Network::Layout& layout_;
