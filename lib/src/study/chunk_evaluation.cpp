@@ -75,7 +75,6 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
   tally.index = k;
   tally.replicate = range.replicate;
   tally.first_sample = range.first_sample;
-  tally.histograms = ranges;
   tally.pairs.resize(m_count * a_count);
   tally.parameter_all.resize(a_count);
   tally.parameter_failing.resize(a_count);
@@ -263,11 +262,8 @@ ChunkTally ChunkEvaluator::evaluate(std::uint64_t k, const std::vector<Histogram
       if (o.keep_samples) tally.pass.push_back(pass);
     }
   }
-  // The histograms hold exactly the values that entered, added here a measurement at a
-  // time: one histogram's counts in cache at once, not all of them through the chunk.
-  for (std::size_t m = 0; m < tally.histograms.size(); ++m) {
-    tally.histograms[m].add(entered_[m].data(), entered_[m].size(), 1);
-  }
+  // The histograms take exactly the values that entered.
+  if (!ranges.empty()) tally.histogram_values.assign(entered_.begin(), entered_.end());
   bool same_count = true;  // as in every chunk without withheld values
   for (std::size_t m = 0; m < m_count; ++m) {
     same_count = same_count && entered_[m].size() == entered_[0].size();

@@ -18,9 +18,10 @@ class ChunkEvaluator {
   ChunkEvaluator(const Study::Impl& study, const RunOptions& options, const RunShape& shape,
                  const SobolDirections* directions);
 
-  /// Evaluates chunk `k`. `ranges` holds the empty histograms every chunk but the first
-  /// starts from; with histograms kept and `ranges` empty the chunk records its raw
-  /// values instead (the pilot that sets the ranges).
+  /// Evaluates chunk `k`. `ranges` holds the histograms' (empty) ranges once the first
+  /// chunk has set them: the chunk then carries the values for the histograms. With
+  /// histograms kept and `ranges` empty it records its raw values instead (the pilot
+  /// that sets the ranges).
   ChunkTally evaluate(std::uint64_t k, const std::vector<Histogram>& ranges);
 
  private:

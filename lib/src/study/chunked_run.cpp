@@ -59,10 +59,11 @@ void ChunkedRun::add(const std::string& piece) {
   for (auto& c : chunks) {
     // Every chunk but the first is tallied into histograms of the set ranges.
     const bool pilot = c.index == 0 && impl_->shape.histograms;
-    if (pilot && !c.histograms.empty()) {
+    if (pilot && !c.histogram_values.empty()) {
       throw RunError("cannot read a piece of a chunked run: chunk 0 must be evaluated without ranges");
     }
-    if (impl_->shape.histograms && !pilot && c.histograms.size() != impl_->shape.measurements) {
+    if (impl_->shape.histograms && !pilot &&
+        c.histogram_values.size() != impl_->shape.measurements) {
       throw RunError("cannot read a piece of a chunked run: chunk " + std::to_string(c.index) +
                      " was evaluated without the histogram ranges");
     }

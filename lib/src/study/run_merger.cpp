@@ -141,7 +141,10 @@ void RunMerger::merge(ChunkTally& done) {
                                   options_.histogram_bins));
     }
   } else {
-    for (std::size_t m = 0; m < done.histograms.size(); ++m) histograms_[m].merge(done.histograms[m]);
+    for (std::size_t m = 0; m < done.histogram_values.size(); ++m) {
+      const std::vector<double>& v = done.histogram_values[m];
+      histograms_[m].add(v.data(), v.size(), 1);
+    }
   }
   total_.merge(done.builds);
   for (std::size_t i = 0; i < pairs_.size(); ++i) pairs_[i].merge(done.pairs[i]);
@@ -197,10 +200,12 @@ void RunMerger::close_lot(const LotStats& lot, std::vector<double>& ss,
 void RunMerger::update_tolerance_batches(const ChunkTally& done) {
   const std::size_t m_count = shape_.measurements;
   batch_.merge(done.builds);
-  if (batch_histograms_.empty()) {
-    batch_histograms_ = merged_ == 0 ? histograms_ : done.histograms;
-  } else {
-    for (std::size_t m = 0; m < m_count; ++m) batch_histograms_[m].merge(done.histograms[m]);
+  // A batch starts from the first chunk's histograms (set from its pilot values) or from
+  // empty ones of the same ranges.
+  if (batch_histograms_.empty()) batch_histograms_ = merged_ == 0 ? histograms_ : ranges_;
+  for (std::size_t m = 0; m < done.histogram_values.size(); ++m) {
+    const std::vector<double>& v = done.histogram_values[m];
+    batch_histograms_[m].add(v.data(), v.size(), 1);
   }
   if ((merged_ + 1) % batch_chunks_ != 0) return;
   // A batch is complete: its figures join the others (JCGM 101:2008, 7.9.4 d-e).

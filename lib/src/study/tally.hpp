@@ -47,9 +47,11 @@ struct ChunkTally {
   Tally builds;
   std::vector<Tally> temperatures;  ///< one per operating temperature of a sweep
 
-  /// Each measurement's histogram once the ranges are set; before that (the first
-  /// chunk) the raw values, one row of measurements per evaluation, to set them from.
-  std::vector<Histogram> histograms;
+  /// Once the ranges are set: per measurement, the values that entered its statistics,
+  /// for the run's histograms (added where the chunks are merged: a chunk carries its
+  /// values, not a copy of every bin). Before that (the first chunk) the raw values, one
+  /// row of measurements per evaluation, to set the ranges from.
+  std::vector<std::vector<double>> histogram_values;
   std::vector<double> pilot;
 
   /// Attribution: (measurement, varied parameter) co-moments, and each varied

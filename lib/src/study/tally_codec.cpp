@@ -9,7 +9,7 @@
 namespace lotwise::detail {
 namespace {
 
-constexpr char kChunksTag[8] = {'L', 'W', 'C', 'H', 'U', 'N', 'K', '1'};
+constexpr char kChunksTag[8] = {'L', 'W', 'C', 'H', 'U', 'N', 'K', '2'};
 constexpr char kRangesTag[8] = {'L', 'W', 'R', 'A', 'N', 'G', 'E', '1'};
 constexpr std::uint32_t kByteOrder = 0x01020304u;
 
@@ -252,8 +252,8 @@ std::string encode_chunks(const std::vector<ChunkTally>& chunks, std::uint64_t f
     w.tally(c.builds);
     w.value<std::uint64_t>(c.temperatures.size());
     for (const Tally& t : c.temperatures) w.tally(t);
-    w.value<std::uint64_t>(c.histograms.size());
-    for (const Histogram& h : c.histograms) w.histogram(h);
+    w.value<std::uint64_t>(c.histogram_values.size());
+    for (const std::vector<double>& v : c.histogram_values) w.values(v);
     w.values(c.pilot);
     w.values(c.pairs);
     w.value<std::uint64_t>(c.parameter_all.size());
@@ -297,7 +297,12 @@ std::vector<ChunkTally> decode_chunks(const std::string& bytes, std::uint64_t fi
     for (std::uint64_t q = 0; q < sweep; ++q) c.temperatures.push_back(r.tally(m, shape.specs));
     const std::uint64_t h = r.value<std::uint64_t>();
     if (h != 0 && h != m) r.fail("a chunk has the wrong number of histograms");
-    for (std::uint64_t i = 0; i < h; ++i) c.histograms.push_back(r.histogram());
+    for (std::uint64_t i = 0; i < h; ++i) {
+      c.histogram_values.push_back(r.values_any<double>());
+      if (c.histogram_values.back().size() > range.count * std::max<std::size_t>(shape.evaluations, 1)) {
+        r.fail("a chunk holds more histogram values than it has builds");
+      }
+    }
     c.pilot = r.values_any<double>();
     c.pairs = r.values<PairMoments>(m * a_count);
     const std::uint64_t a = r.value<std::uint64_t>();
