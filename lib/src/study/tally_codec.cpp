@@ -297,9 +297,10 @@ std::vector<ChunkTally> decode_chunks(const std::string& bytes, std::uint64_t fi
     for (std::uint64_t q = 0; q < sweep; ++q) c.temperatures.push_back(r.tally(m, shape.specs));
     const std::uint64_t h = r.value<std::uint64_t>();
     if (h != 0 && h != m) r.fail("a chunk has the wrong number of histograms");
+    const std::uint64_t most_values = range.count * std::max<std::size_t>(shape.evaluations, 1);
     for (std::uint64_t i = 0; i < h; ++i) {
       c.histogram_values.push_back(r.values_any<double>());
-      if (c.histogram_values.back().size() > range.count * std::max<std::size_t>(shape.evaluations, 1)) {
+      if (c.histogram_values.back().size() > most_values) {
         r.fail("a chunk holds more histogram values than it has builds");
       }
     }

@@ -173,6 +173,35 @@ TEST_CASE("a chunked run refuses pieces of another run", "[chunked][errors]") {
   CHECK(partial.samples == 256);  // chunks 2-4 wait for chunk 1
 }
 
+TEST_CASE("a chunked run refuses a chunk with more histogram values than builds",
+          "[chunked][errors]") {
+  const Study study(load_design(data_path("diff_amp.toml")));
+  const RunOptions o = options_for(2000);
+  ChunkedRun run(study, o);
+  run.add(evaluate_chunks(study, o, 0, 1, ""));
+  std::string piece = evaluate_chunks(study, o, 1, 1, run.ranges());
+  // The piece's histogram values: the measurement count (2), then per measurement a count
+  // of values (all 256 builds entered) and the values. Found by that layout, the first
+  // count is raised by one and one more value put in.
+  auto u64 = [](std::uint64_t v) { return std::string(reinterpret_cast<const char*>(&v), 8); };
+  const std::string pattern = u64(2) + u64(256);
+  std::size_t at = std::string::npos, found = 0;
+  for (std::size_t p = piece.find(pattern); p != std::string::npos;
+       p = piece.find(pattern, p + 1)) {
+    if (piece.compare(p + 16 + 256 * 8, 8, u64(256)) == 0) {
+      at = p;
+      ++found;
+    }
+  }
+  REQUIRE(found == 1);
+  std::string damaged = piece;
+  damaged.replace(at + 8, 8, u64(257));
+  damaged.insert(at + 16, u64(0));
+  CHECK_THROWS_WITH(run.add(damaged), Catch::Contains("more histogram values than it has builds"));
+  run.add(piece);  // the undamaged piece is still taken
+  CHECK(run.merged() == 2);
+}
+
 namespace {
 
 // Kept samples send every block through the chunk's general loop; without them a block
