@@ -19,29 +19,8 @@ class Histogram {
 
   /// Allocates nothing.
   void add(double x) { add(&x, 1, 1); }
-  /// add() for values[0], values[stride], ... (n values). The totals stay in registers
-  /// between values: each in memory would make one long chain of increments.
-  void add(const double* values, std::size_t n, std::size_t stride) {
-    std::uint64_t total = 0, below = 0, above = 0;
-    const std::size_t last = counts_.empty() ? 0 : counts_.size() - 1;
-    for (std::size_t i = 0; i < n; ++i) {
-      const double x = values[i * stride];
-      if (x != x) continue;  // NaN
-      ++total;
-      if (x < low_) {
-        ++below;
-      } else if (x >= high_) {
-        ++above;
-      } else {
-        std::size_t b = static_cast<std::size_t>((x - low_) * scale_);
-        if (b > last) b = last;  // rounding at the top edge
-        ++counts_[b];
-      }
-    }
-    total_ += total;
-    below_ += below;
-    above_ += above;
-  }
+  /// add() for values[0], values[stride], ... (n values). Allocates nothing.
+  void add(const double* values, std::size_t n, std::size_t stride);
   /// A histogram with these counts, e.g. one carried from another process; throws Error
   /// unless the range is valid and total == below + above + the bin counts.
   static Histogram from_counts(double low, double high, std::vector<std::uint64_t> counts,

@@ -1,6 +1,9 @@
 // The bounded-memory histogram: quantiles and exact, order-independent merging.
+#include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <limits>
+#include <tuple>
 #include <vector>
 
 #include "test_support.hpp"
@@ -72,4 +75,51 @@ TEST_CASE("histogram adds strided values as it adds them one by one", "[fast][hi
   CHECK(one.total() == 9);  // NaN is not counted
   CHECK(one.below() == 2);
   CHECK(one.above() == 3);
+}
+
+TEST_CASE("histogram bins follow the rule floor((x - low) bins / (high - low)), the top kept",
+          "[fast][histogram]") {
+  // Against the rule written out here, value by value, for runs longer than add()'s
+  // blocks, contiguous and strided: random values over and beyond the range, the range's
+  // ends and the largest value below the top (whose bin may round up to the count and is
+  // then the last), infinities and NaN.
+  const double nan = std::numeric_limits<double>::quiet_NaN();
+  const double inf = std::numeric_limits<double>::infinity();
+  std::uint64_t state = 12345;
+  auto uniform = [&state] {  // a linear congruential generator (Knuth's MMIX constants)
+    state = state * 6364136223846793005ull + 1442695040888963407ull;
+    return static_cast<double>(state >> 11) * 0x1.0p-53;
+  };
+  for (const auto& [low, high, bins] : {std::tuple<double, double, std::size_t>{0.1, 0.7, 3},
+                                        {-2.5, 7.25, 4096}, {100.5, 101.5, 8}}) {
+    std::vector<double> values = {low, high, std::nextafter(high, low), nan, inf, -inf};
+    for (int i = 0; i < 5000; ++i) {
+      values.push_back(low - 0.2 * (high - low) + 1.4 * (high - low) * uniform());
+    }
+    std::vector<std::uint64_t> counts(bins, 0);
+    std::uint64_t below = 0, above = 0, total = 0;
+    const double scale = static_cast<double>(bins) / (high - low);
+    for (double x : values) {
+      if (std::isnan(x)) continue;
+      ++total;
+      if (x < low) {
+        ++below;
+      } else if (x >= high) {
+        ++above;
+      } else {
+        ++counts[std::min(static_cast<std::size_t>((x - low) * scale), bins - 1)];
+      }
+    }
+    for (std::size_t stride : {1, 3}) {
+      CAPTURE(bins, stride);
+      std::vector<double> spaced(values.size() * stride, 0.5 * (low + high));
+      for (std::size_t i = 0; i < values.size(); ++i) spaced[i * stride] = values[i];
+      Histogram h(low, high, bins);
+      h.add(spaced.data(), values.size(), stride);
+      CHECK(h.counts() == counts);
+      CHECK(h.below() == below);
+      CHECK(h.above() == above);
+      CHECK(h.total() == total);
+    }
+  }
 }
