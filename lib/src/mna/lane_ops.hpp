@@ -238,7 +238,7 @@ inline void lanes_fill_slots(const SlotFill* fills, std::size_t count, const Slo
     Pack s0 = {start, start, start, start}, s1 = s0, s2 = s0, s3 = s0;
     for (std::uint32_t k = fill.begin; k < fill.end; ++k) {
       const SlotTerm& t = terms[k];
-      const double* x = (t.kind == SlotTerm::real_reciprocal ? reciprocal : theta) + t.index * L;
+      const double* x = (reads_reciprocal(t.kind) ? reciprocal : theta) + t.index * L;
       const Pack f = {t.factor, t.factor, t.factor, t.factor};
       Pack y;
       pack_load(y, x);

@@ -116,8 +116,8 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
         if (reciprocal) {
           if (!indexed[t.index]) {
             indexed[t.index] = 1;
-            index_of[t.index] = static_cast<std::uint32_t>(lanes.terms.inverse.size());
-            lanes.terms.inverse.push_back(fill.inverse[t.index]);
+            index_of[t.index] = static_cast<std::uint32_t>(lanes.inverted.size());
+            lanes.inverted.push_back(fill.inverse[t.index]);
           }
           t.index = index_of[t.index];
         }
@@ -149,7 +149,7 @@ void LaneSolver::add_analysis(NetworkWorkspace& ws, double frequency,
     const auto& inverse = lanes.schedule.initial_inverse();
     lanes.inverse.resize(n * L);
     for (std::size_t k = 0; k < n; ++k) lanes_set<L>(&lanes.inverse[k * L], inverse[k]);
-    lanes.reciprocal.resize(lanes.terms.inverse.size() * L);
+    lanes.reciprocal.resize(lanes.inverted.size() * L);
     for (std::size_t k = 0; k < n; ++k) {
       if (lanes.schedule.reads_step(k)) lanes.rows.push_back(static_cast<std::uint32_t>(k));
     }
@@ -224,13 +224,12 @@ LOTWISE_AVX2_CLONES void LaneSolver::check_lanes(unsigned char* ok) const {
 template <typename T>
 void LaneSolver::run(LaneAnalysis<T>& lanes, unsigned char* ok) {
   // The fill of Network's factor_pattern, per lane, on the slots that change.
-  const auto& f = lanes.terms;
   const auto& schedule = lanes.schedule;
   T* v = lanes.values.data();
   const T* initial = schedule.initial().data();
   double* r = lanes.reciprocal.data();
-  for (std::size_t k = 0; k < f.inverse.size(); ++k) {
-    lanes_reciprocal<L>(r + k * L, &theta_[f.inverse[k] * L]);
+  for (std::size_t k = 0; k < lanes.inverted.size(); ++k) {
+    lanes_reciprocal<L>(r + k * L, &theta_[lanes.inverted[k] * L]);
   }
   // The dense path's singularity scale, n eps max |a_ij|, per lane. The maximum is exact
   // and NaN never enters it, so the constants' part taken once and the changing slots'

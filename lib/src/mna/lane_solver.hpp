@@ -33,9 +33,8 @@ struct LaneAnalysis {
   double frequency = 0.0;
   std::size_t excitations = 0;
   std::vector<RhsOp> rhs;                ///< every excitation's operations, in order
-  /// The parameters whose reciprocals the fill reads (`reciprocal` below, in this
-  /// order); the rest of PatternFill stays empty.
-  PatternFill<T> terms;
+  /// The parameters whose reciprocals the fill reads (`reciprocal` below, in this order).
+  std::vector<std::size_t> inverted;
   /// The fill's terms on the slots that change between loads (every term of such a
   /// slot), grouped by slot, each slot's in the fill's order so that its sum rounds as in
   /// the one-at-a-time fill; reciprocal terms index `reciprocal`. Every slot the schedule
@@ -97,9 +96,10 @@ class LaneSolver {
   template <typename T>
   void run(LaneAnalysis<T>& lanes, unsigned char* ok);
   void run_dc(LaneAnalysis<double>& lanes, unsigned char* ok);
+  void run_ac(LaneAnalysis<std::complex<double>>& lanes, unsigned char* ok);
+  // load() and check(), compiled per processor (called only from this class's file).
   void load_lanes(const double* const* thetas, std::size_t count);
   void check_lanes(unsigned char* ok) const;
-  void run_ac(LaneAnalysis<std::complex<double>>& lanes, unsigned char* ok);
 
   const Network::Layout& layout_;
   bool usable_ = true;

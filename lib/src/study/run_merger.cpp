@@ -59,6 +59,14 @@ std::uint64_t tolerance_batch_trials(double coverage) {
   return std::max<std::uint64_t>(10000, static_cast<std::uint64_t>(j));
 }
 
+// A chunk's entered values (none for the first chunk) into histograms of the run's ranges.
+void add_histogram_values(std::vector<Histogram>& histograms, const ChunkTally& done) {
+  for (std::size_t m = 0; m < done.histogram_values.size(); ++m) {
+    const std::vector<double>& v = done.histogram_values[m];
+    histograms[m].add(v.data(), v.size(), 1);
+  }
+}
+
 }  // namespace
 
 // The numerical tolerance of a standard uncertainty u written with `digits` significant
@@ -141,10 +149,7 @@ void RunMerger::merge(ChunkTally& done) {
                                   options_.histogram_bins));
     }
   } else {
-    for (std::size_t m = 0; m < done.histogram_values.size(); ++m) {
-      const std::vector<double>& v = done.histogram_values[m];
-      histograms_[m].add(v.data(), v.size(), 1);
-    }
+    add_histogram_values(histograms_, done);
   }
   total_.merge(done.builds);
   for (std::size_t i = 0; i < pairs_.size(); ++i) pairs_[i].merge(done.pairs[i]);
@@ -203,10 +208,7 @@ void RunMerger::update_tolerance_batches(const ChunkTally& done) {
   // A batch starts from the first chunk's histograms (set from its pilot values) or from
   // empty ones of the same ranges.
   if (batch_histograms_.empty()) batch_histograms_ = merged_ == 0 ? histograms_ : ranges_;
-  for (std::size_t m = 0; m < done.histogram_values.size(); ++m) {
-    const std::vector<double>& v = done.histogram_values[m];
-    batch_histograms_[m].add(v.data(), v.size(), 1);
-  }
+  add_histogram_values(batch_histograms_, done);
   if ((merged_ + 1) % batch_chunks_ != 0) return;
   // A batch is complete: its figures join the others (JCGM 101:2008, 7.9.4 d-e).
   for (std::size_t m = 0; m < m_count; ++m) {

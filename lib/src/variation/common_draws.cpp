@@ -10,6 +10,19 @@
 
 namespace lotwise::detail {
 
+namespace {
+
+// Coordinates j.. one at a time, up to the first that is not common (every path's tail).
+std::size_t prefix_one_by_one(const std::uint64_t* outputs, const std::int64_t* normal,
+                              std::size_t j, std::size_t count, double* out) {
+  for (; j < count; ++j) {
+    if (!draw_common(outputs[j], normal[j] != 0, out + j)) return j;
+  }
+  return count;
+}
+
+}  // namespace
+
 #if defined(__GNUC__) || defined(__clang__)
 
 namespace {
@@ -77,10 +90,7 @@ std::size_t prefix_vectors(const std::uint64_t* outputs, const std::int64_t* nor
       return j + l;
     }
   }
-  for (; j < count; ++j) {
-    if (!draw_common(outputs[j], normal[j] != 0, out + j)) return j;
-  }
-  return count;
+  return prefix_one_by_one(outputs, normal, j, count, out);
 }
 
 #if defined(__x86_64__) && !defined(LOTWISE_NO_CPU_CLONES)
@@ -90,14 +100,12 @@ std::size_t prefix_vectors(const std::uint64_t* outputs, const std::int64_t* nor
 // (the portable vectors above extract every lane), the uniform value is always made (one
 // branch fewer), and the widths are read by scalar loads from the layers stored to memory
 // (measured faster than two gathers, and than lanes extracted from the register).
+// to_double() on AVX2 registers (the same vector types underneath).
 __attribute__((target("avx2"))) inline __m256d to_double_avx2(__m256i x) {
-  const __m256i high_bits =
-      _mm256_or_si256(_mm256_srli_epi64(x, 32), _mm256_set1_epi64x(0x4530000000000000ll));
-  const __m256i low_bits = _mm256_or_si256(_mm256_and_si256(x, _mm256_set1_epi64x(0xFFFFFFFFll)),
-                                           _mm256_set1_epi64x(0x4330000000000000ll));
-  const __m256d high =
-      _mm256_sub_pd(_mm256_castsi256_pd(high_bits), _mm256_set1_pd(0x1.00000001p84));
-  return _mm256_add_pd(high, _mm256_castsi256_pd(low_bits));
+  const u64x4 bits = reinterpret_cast<u64x4>(x);
+  f64x4 value;
+  to_double(&bits, &value);
+  return reinterpret_cast<__m256d>(value);
 }
 
 __attribute__((target("avx2"))) std::size_t prefix_avx2(const std::uint64_t* outputs,
@@ -132,10 +140,7 @@ __attribute__((target("avx2"))) std::size_t prefix_avx2(const std::uint64_t* out
     const int accepted = _mm256_movemask_pd(ok);
     if (accepted != 0xF) return j + static_cast<std::size_t>(__builtin_ctz(~accepted));
   }
-  for (; j < count; ++j) {
-    if (!draw_common(outputs[j], normal[j] != 0, out + j)) return j;
-  }
-  return count;
+  return prefix_one_by_one(outputs, normal, j, count, out);
 }
 
 // Eight at a time on AVX-512 (F and DQ): the conversions from 64-bit integers are single
@@ -184,10 +189,6 @@ __attribute__((target("avx512f,avx512dq"))) std::size_t prefix_avx512(
 }
 #pragma GCC diagnostic pop
 #endif
-
-}  // namespace
-
-namespace {
 
 bool can_take(DrawPath path) {
   switch (path) {
@@ -242,10 +243,7 @@ std::vector<DrawPath> draw_paths_here() { return {DrawPath::portable}; }
 
 std::size_t draw_common_prefix(DrawPath, const std::uint64_t* outputs, const std::int64_t* normal,
                                std::size_t count, double* out) {
-  for (std::size_t j = 0; j < count; ++j) {
-    if (!draw_common(outputs[j], normal[j] != 0, out + j)) return j;
-  }
-  return count;
+  return prefix_one_by_one(outputs, normal, 0, count, out);
 }
 
 std::size_t draw_common_prefix(const std::uint64_t* outputs, const std::int64_t* normal,
