@@ -20,7 +20,12 @@ import statistics
 import sys
 import time
 
-import lotwise
+# One BLAS thread, as in run_all.py: the rates are per CPU second of the process, and the
+# comparison is one core against one core. Set before numpy is first imported.
+for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_name, "1")
+
+import lotwise  # noqa: E402
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, HERE)
@@ -28,11 +33,15 @@ import numpy_reference  # noqa: E402  (beside this file)
 
 
 def main() -> None:
-    bursts = int(sys.argv[1]) if len(sys.argv) > 1 else 15
-    lw_samples = int(sys.argv[2]) if len(sys.argv) > 2 else 1 << 18
-    np_samples = int(sys.argv[3]) if len(sys.argv) > 3 else 16384
-    if bursts < 1 or lw_samples < 1 or np_samples < 1:
-        sys.exit("interleaved_ratio.py: bursts and sample counts must be positive integers")
+    defaults = [15, 1 << 18, 16384]
+    names = ["bursts", "lotwise samples", "numpy samples"]
+    values = []
+    for k, default in enumerate(defaults):
+        text = sys.argv[k + 1] if len(sys.argv) > k + 1 else str(default)
+        if not text.isdigit() or int(text) < 1:
+            sys.exit(f"interleaved_ratio.py: {names[k]} must be a positive integer, not '{text}'")
+        values.append(int(text))
+    bursts, lw_samples, np_samples = values
     study = lotwise.load(os.path.join(HERE, "studies", "instrumentation_amp.toml"))
     # One of each first, untimed: imports, first-touch allocations, the numpy kernels' setup.
     study.run(samples=1 << 14, seed=1, threads=1, attribution=False)

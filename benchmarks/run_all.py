@@ -121,6 +121,12 @@ def two_processes(exe: str) -> float:
     return total
 
 
+def non_negative(text: str) -> int:
+    if not text.isdigit():
+        raise argparse.ArgumentTypeError(f"must be a whole number >= 0, not '{text}'")
+    return int(text)
+
+
 def median(values: list) -> float:
     v = sorted(values)
     n = len(v)
@@ -133,7 +139,7 @@ def main() -> int:
     ap.add_argument("--no-build", action="store_true")
     ap.add_argument("--quick", action="store_true", help="shorter runs, memory up to 1e6")
     ap.add_argument("--json", help="also write every figure to this file")
-    ap.add_argument("--rounds", type=int, default=None,
+    ap.add_argument("--rounds", type=non_negative, default=None,
                     help="back-to-back rounds for the judged ratios (default 5, 2 with --quick)")
     a = ap.parse_args()
     build_dir = os.path.abspath(a.build_dir)
