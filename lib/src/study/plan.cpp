@@ -11,6 +11,7 @@
 
 #include "mna/lane_solver.hpp"
 #include "mna/layout.hpp"
+#include "numeric/natural_log.hpp"
 
 #include "lotwise/error.hpp"
 
@@ -537,7 +538,7 @@ inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
       const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
       return common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
                  ? std::numeric_limits<double>::infinity()
-                 : db_per_neper * std::log(signal / common);
+                 : db_per_neper * natural_log(signal / common);
     }
     case MeasurementKind::node_voltage: return first.real();
     case MeasurementKind::output_offset:
@@ -565,6 +566,31 @@ void read_lanes(const CompiledMeasurement& m, std::size_t i, const std::complex<
                 std::size_t count) {
   for (std::size_t l = 0; l < count; ++l) {
     if (ok[l]) values[l][i] = read_value(K, m, lane_probes + l, solve_lanes, thetas[l]);
+  }
+}
+
+// The CMRR across the lanes: read_value's operations, the logarithms taken side by side.
+template <>
+void read_lanes<MeasurementKind::cmrr>(const CompiledMeasurement& m, std::size_t i,
+                                       const std::complex<double>* lane_probes,
+                                       const double* const* /*thetas*/, double* const* values,
+                                       const unsigned char* ok, std::size_t count) {
+  const bool at_dc = m.frequency == 0.0;
+  double ratio[solve_lanes];
+  double logs[solve_lanes];
+  bool infinite[solve_lanes];
+  for (std::size_t l = 0; l < count; ++l) {
+    // Lanes that did not solve hold stale probes: their ratio is computed and dropped.
+    const std::complex<double> first = lane_probes[m.first * solve_lanes + l];
+    const std::complex<double> second = lane_probes[m.second * solve_lanes + l];
+    const double common = at_dc ? std::abs(second.real()) : std::abs(second);
+    const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
+    infinite[l] = common <= 64.0 * std::numeric_limits<double>::epsilon() * signal;
+    ratio[l] = signal / common;
+  }
+  natural_log_each(ratio, logs, count);
+  for (std::size_t l = 0; l < count; ++l) {
+    if (ok[l]) values[l][i] = infinite[l] ? std::numeric_limits<double>::infinity() : db_per_neper * logs[l];
   }
 }
 
