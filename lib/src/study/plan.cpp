@@ -520,6 +520,26 @@ bool read_from_probes(MeasurementKind kind) {
 // The value of a measurement of a kind read_from_probes (m.kind, or the same kind known
 // at compile time): probe p at probes[p * stride] (one build's probes, or one lane of the
 // lanes' probes).
+// The CMRR before its logarithm: |signal / common|, and whether the common-mode gain is
+// within rounding of zero (a perfectly matched network), which is infinite rejection, not a
+// 300 dB figure made of rounding noise. At DC the probes are real; |x + 0i| is |x| exactly,
+// without a call to hypot.
+struct RejectionRatio {
+  double ratio;
+  bool infinite;
+};
+
+inline RejectionRatio rejection_ratio(std::complex<double> signal_probe,
+                                      std::complex<double> common_probe, bool at_dc) {
+  const double common = at_dc ? std::abs(common_probe.real()) : std::abs(common_probe);
+  const double signal = at_dc ? std::abs(signal_probe.real()) : std::abs(signal_probe);
+  return {signal / common, common <= 64.0 * std::numeric_limits<double>::epsilon() * signal};
+}
+
+inline double decibels(const RejectionRatio& r, double log_ratio) {
+  return r.infinite ? std::numeric_limits<double>::infinity() : db_per_neper * log_ratio;
+}
+
 inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
                          const std::complex<double>* probes, std::size_t stride, const double* theta) {
   const std::complex<double> first = probes[m.first * stride];
@@ -530,15 +550,8 @@ inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
     case MeasurementKind::common_mode_gain:
       return at_dc ? first.real() : std::abs(first);
     case MeasurementKind::cmrr: {
-      // A common-mode gain within rounding of zero (a perfectly matched network) is
-      // infinite rejection, not a 300 dB figure made of rounding noise.
-      // At DC the probes are real; |x + 0i| is |x| exactly, without a call to hypot.
-      const std::complex<double> second = probes[m.second * stride];
-      const double common = at_dc ? std::abs(second.real()) : std::abs(second);
-      const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
-      return common <= 64.0 * std::numeric_limits<double>::epsilon() * signal
-                 ? std::numeric_limits<double>::infinity()
-                 : db_per_neper * natural_log(signal / common);
+      const RejectionRatio r = rejection_ratio(first, probes[m.second * stride], at_dc);
+      return decibels(r, natural_log(r.ratio));
     }
     case MeasurementKind::node_voltage: return first.real();
     case MeasurementKind::output_offset:
@@ -576,21 +589,18 @@ void read_lanes<MeasurementKind::cmrr>(const CompiledMeasurement& m, std::size_t
                                        const double* const* /*thetas*/, double* const* values,
                                        const unsigned char* ok, std::size_t count) {
   const bool at_dc = m.frequency == 0.0;
-  double ratio[solve_lanes];
+  RejectionRatio parts[solve_lanes];
+  double ratios[solve_lanes];
   double logs[solve_lanes];
-  bool infinite[solve_lanes];
   for (std::size_t l = 0; l < count; ++l) {
     // Lanes that did not solve hold stale probes: their ratio is computed and dropped.
-    const std::complex<double> first = lane_probes[m.first * solve_lanes + l];
-    const std::complex<double> second = lane_probes[m.second * solve_lanes + l];
-    const double common = at_dc ? std::abs(second.real()) : std::abs(second);
-    const double signal = at_dc ? std::abs(first.real()) : std::abs(first);
-    infinite[l] = common <= 64.0 * std::numeric_limits<double>::epsilon() * signal;
-    ratio[l] = signal / common;
+    parts[l] = rejection_ratio(lane_probes[m.first * solve_lanes + l],
+                               lane_probes[m.second * solve_lanes + l], at_dc);
+    ratios[l] = parts[l].ratio;
   }
-  natural_log_each(ratio, logs, count);
+  natural_log_each(ratios, logs, count);
   for (std::size_t l = 0; l < count; ++l) {
-    if (ok[l]) values[l][i] = infinite[l] ? std::numeric_limits<double>::infinity() : db_per_neper * logs[l];
+    if (ok[l]) values[l][i] = decibels(parts[l], logs[l]);
   }
 }
 
