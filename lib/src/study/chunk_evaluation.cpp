@@ -296,7 +296,8 @@ bool ChunkEvaluator::all_entered(std::size_t block) const {
 
 // One evaluation per build, every status ok and nothing withheld: each measurement's
 // values enter its statistics and histogram in build order (the order the general loop
-// gives each of them), then the specs and attribution rows build by build.
+// gives each of them), then the specs, each across the block, and the attribution rows
+// build by build.
 void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
   const Study::Impl& s = study_;
   const std::size_t m_count = shape_.measurements;
@@ -307,26 +308,33 @@ void ChunkEvaluator::tally_entered_block(ChunkTally& tally, std::size_t block) {
     entered.resize(at + block);  // within the reserve
     for (std::size_t b = 0; b < block; ++b) entered[at + b] = values_[b * m_count + m];
   }
+  // Spec by spec across the block, its limits held in registers; then build by build.
+  bool passes[Evaluator::lanes];
+  std::fill(passes, passes + block, true);
+  for (std::size_t j = 0; j < spec_count; ++j) {
+    const Spec& spec = s.design.specs[j];
+    const double* column = values_.data() + s.spec_measurement[j];
+    std::uint64_t count = 0;
+    for (std::size_t b = 0; b < block; ++b) {
+      const bool ok = spec.passes(column[b * m_count]);
+      count += ok;
+      passes[b] = passes[b] && ok;
+    }
+    tally.builds.spec_passed[j] += count;
+  }
+  for (std::size_t b = 0; b < block; ++b) tally.builds.passed += passes[b];
+  tally.builds.samples += block;
+  if (!shape_.attribution || shape_.varied.empty()) return;  // no attribution rows
   const std::size_t p_count = s.nominal_parameters.size();
-  const std::size_t a_count = shape_.attribution ? shape_.varied.size() : 0;
+  const std::size_t a_count = shape_.varied.size();
   for (std::size_t b = 0; b < block; ++b) {
     const double* values = values_.data() + b * m_count;
-    bool pass = true;
-    for (std::size_t j = 0; j < spec_count; ++j) {
-      const bool ok = s.design.specs[j].passes(values[s.spec_measurement[j]]);
-      tally.builds.spec_passed[j] += ok;
-      pass = pass && ok;
-    }
-    tally.builds.passed += pass;
-    if (a_count > 0) {
-      const double* theta = &theta_[b * p_count];
-      double* out = next_attribution_row();
-      for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[shape_.varied[a]];
-      std::copy(values, values + m_count, out + a_count);
-      out[a_count + m_count] = pass ? 1.0 : 0.0;
-    }
+    const double* theta = &theta_[b * p_count];
+    double* out = next_attribution_row();
+    for (std::size_t a = 0; a < a_count; ++a) out[a] = theta[shape_.varied[a]];
+    std::copy(values, values + m_count, out + a_count);
+    out[a_count + m_count] = passes[b] ? 1.0 : 0.0;
   }
-  tally.builds.samples += block;
 }
 
 // Each chunk's attribution moments from its records (one row per evaluation: the varied

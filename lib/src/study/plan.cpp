@@ -529,10 +529,15 @@ struct RejectionRatio {
   bool infinite;
 };
 
-inline RejectionRatio rejection_ratio(std::complex<double> signal_probe,
-                                      std::complex<double> common_probe, bool at_dc) {
-  const double common = at_dc ? std::abs(common_probe.real()) : std::abs(common_probe);
-  const double signal = at_dc ? std::abs(signal_probe.real()) : std::abs(signal_probe);
+// A probe's real part: probes are complex, or real where every analysis is at DC (the
+// real part of the complex sums, by the same operations).
+inline double real_part(double x) { return x; }
+inline double real_part(const std::complex<double>& x) { return x.real(); }
+
+template <typename P>
+inline RejectionRatio rejection_ratio(const P& signal_probe, const P& common_probe, bool at_dc) {
+  const double common = at_dc ? std::abs(real_part(common_probe)) : std::abs(common_probe);
+  const double signal = at_dc ? std::abs(real_part(signal_probe)) : std::abs(signal_probe);
   return {signal / common, common <= 64.0 * std::numeric_limits<double>::epsilon() * signal};
 }
 
@@ -540,31 +545,32 @@ inline double decibels(const RejectionRatio& r, double log_ratio) {
   return r.infinite ? std::numeric_limits<double>::infinity() : db_per_neper * log_ratio;
 }
 
-inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
-                         const std::complex<double>* probes, std::size_t stride, const double* theta) {
-  const std::complex<double> first = probes[m.first * stride];
+template <typename P>
+inline double read_value(MeasurementKind kind, const CompiledMeasurement& m, const P* probes,
+                         std::size_t stride, const double* theta) {
+  const P first = probes[m.first * stride];
   const bool at_dc = m.frequency == 0.0;
   switch (kind) {
     case MeasurementKind::gain:
     case MeasurementKind::differential_gain:
     case MeasurementKind::common_mode_gain:
-      return at_dc ? first.real() : std::abs(first);
+      return at_dc ? real_part(first) : std::abs(first);
     case MeasurementKind::cmrr: {
       const RejectionRatio r = rejection_ratio(first, probes[m.second * stride], at_dc);
       return decibels(r, natural_log(r.ratio));
     }
-    case MeasurementKind::node_voltage: return first.real();
+    case MeasurementKind::node_voltage: return real_part(first);
     case MeasurementKind::output_offset:
     case MeasurementKind::input_offset: {
       const double signal = theta[m.signal_plus] -
                             (m.signal_minus == Network::npos ? 0.0 : theta[m.signal_minus]);
-      const double gain = probes[m.second * stride].real();
-      const double offset = first.real() - gain * signal;
+      const double gain = real_part(probes[m.second * stride]);
+      const double offset = real_part(first) - gain * signal;
       return kind == MeasurementKind::output_offset ? offset : offset / gain;
     }
     case MeasurementKind::phase: return std::arg(first) * (180.0 / 3.14159265358979323846);
     case MeasurementKind::gain_error: {
-      const double gain = at_dc ? first.real() : std::abs(first);
+      const double gain = at_dc ? real_part(first) : std::abs(first);
       return (gain - m.target) / m.target;
     }
     default:  // a kind not read_from_probes: its own function computes it
@@ -572,35 +578,47 @@ inline double read_value(MeasurementKind kind, const CompiledMeasurement& m,
   }
 }
 
-// Measurement m of kind K into values[l][i] for the solved lanes.
-template <MeasurementKind K>
-void read_lanes(const CompiledMeasurement& m, std::size_t i, const std::complex<double>* lane_probes,
-                const double* const* thetas, double* const* values, const unsigned char* ok,
-                std::size_t count) {
-  for (std::size_t l = 0; l < count; ++l) {
-    if (ok[l]) values[l][i] = read_value(K, m, lane_probes + l, solve_lanes, thetas[l]);
+// A probe's lanes as evaluate() sums it: 0, plus V(plus), minus V(minus), in that order
+// (a null column is not there). Real lanes get the real part of the complex sums, by the
+// same operations.
+template <typename P, typename X>
+void sum_probe(P* out, const X* plus, const X* minus) {
+  for (std::size_t l = 0; l < solve_lanes; ++l) out[l] = P(0.0);
+  if (plus) {
+    for (std::size_t l = 0; l < solve_lanes; ++l) out[l] += plus[l];
+  }
+  if (minus) {
+    for (std::size_t l = 0; l < solve_lanes; ++l) out[l] -= minus[l];
   }
 }
 
-// The CMRR across the lanes: read_value's operations, the logarithms taken side by side.
-template <>
-void read_lanes<MeasurementKind::cmrr>(const CompiledMeasurement& m, std::size_t i,
-                                       const std::complex<double>* lane_probes,
-                                       const double* const* /*thetas*/, double* const* values,
-                                       const unsigned char* ok, std::size_t count) {
-  const bool at_dc = m.frequency == 0.0;
-  RejectionRatio parts[solve_lanes];
-  double ratios[solve_lanes];
-  double logs[solve_lanes];
-  for (std::size_t l = 0; l < count; ++l) {
-    // Lanes that did not solve hold stale probes: their ratio is computed and dropped.
-    parts[l] = rejection_ratio(lane_probes[m.first * solve_lanes + l],
-                               lane_probes[m.second * solve_lanes + l], at_dc);
-    ratios[l] = parts[l].ratio;
+// Measurement m of kind K into values[l][i] for the solved lanes (ok[l]). Every lane is
+// computed, so that the loops carry no branch; a lane that did not solve holds stale
+// probes, and its value is dropped.
+template <MeasurementKind K, typename P>
+void read_lanes(const CompiledMeasurement& m, std::size_t i, const P* lane_probes,
+                const double* const* thetas, double* const* values, const unsigned char* ok,
+                std::size_t count) {
+  double out[solve_lanes];
+  if constexpr (K == MeasurementKind::cmrr) {
+    // read_value's operations, the logarithms taken side by side.
+    const bool at_dc = m.frequency == 0.0;
+    RejectionRatio parts[solve_lanes];
+    double ratios[solve_lanes];
+    for (std::size_t l = 0; l < count; ++l) {
+      parts[l] = rejection_ratio(lane_probes[m.first * solve_lanes + l],
+                                 lane_probes[m.second * solve_lanes + l], at_dc);
+      ratios[l] = parts[l].ratio;
+    }
+    natural_log_each(ratios, out, count);
+    for (std::size_t l = 0; l < count; ++l) out[l] = decibels(parts[l], out[l]);
+  } else {
+    for (std::size_t l = 0; l < count; ++l) {
+      out[l] = read_value(K, m, lane_probes + l, solve_lanes, thetas[l]);
+    }
   }
-  natural_log_each(ratios, logs, count);
   for (std::size_t l = 0; l < count; ++l) {
-    if (ok[l]) values[l][i] = decibels(parts[l], logs[l]);
+    if (ok[l]) values[l][i] = out[l];
   }
 }
 
@@ -647,6 +665,13 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
   if (solver->usable()) lane_solver_ = std::move(solver);
   reads_lanes_ = std::all_of(plan.measurements.begin(), plan.measurements.end(),
                              [](const CompiledMeasurement& m) { return read_from_probes(m.kind); });
+  // Every analysis at DC: the lanes' probes are real (a phase is read from complex ones).
+  real_lanes_ = reads_lanes_ &&
+                std::all_of(plan.analyses.begin(), plan.analyses.end(),
+                            [](const Analysis& a) { return a.frequency == 0.0; }) &&
+                std::none_of(plan.measurements.begin(), plan.measurements.end(),
+                             [](const CompiledMeasurement& m) { return m.kind == MeasurementKind::phase; });
+  if (real_lanes_) lane_real_probes_.assign(plan.probes.size() * lanes, 0.0);
 }
 
 Evaluator::~Evaluator() = default;
@@ -679,31 +704,26 @@ void Evaluator::evaluate_lanes(const double* const* thetas, double* const* value
     for (std::size_t p = 0; p < plan_.probes.size(); ++p) {
       const Probe& probe = plan_.probes[p];
       if (probe.analysis != a) continue;
-      std::complex<double>* out = &lane_probes_[p * lanes];
-      // As evaluate(): 0, plus V(plus), minus V(minus), in that order.
-      for (std::size_t l = 0; l < lanes; ++l) out[l] = 0.0;
+      const bool plus = probe.plus != Network::npos, minus = probe.minus != Network::npos;
       if (dc) {
-        if (probe.plus != Network::npos) {
-          const double* x = solver.dc(a, probe.excitation, probe.plus);
-          for (std::size_t l = 0; l < lanes; ++l) out[l] += x[l];
-        }
-        if (probe.minus != Network::npos) {
-          const double* x = solver.dc(a, probe.excitation, probe.minus);
-          for (std::size_t l = 0; l < lanes; ++l) out[l] -= x[l];
+        const double* x_plus = plus ? solver.dc(a, probe.excitation, probe.plus) : nullptr;
+        const double* x_minus = minus ? solver.dc(a, probe.excitation, probe.minus) : nullptr;
+        if (real_lanes_) {
+          sum_probe(&lane_real_probes_[p * lanes], x_plus, x_minus);
+        } else {
+          sum_probe(&lane_probes_[p * lanes], x_plus, x_minus);
         }
       } else {
-        if (probe.plus != Network::npos) {
-          const std::complex<double>* x = solver.ac(a, probe.excitation, probe.plus);
-          for (std::size_t l = 0; l < lanes; ++l) out[l] += x[l];
-        }
-        if (probe.minus != Network::npos) {
-          const std::complex<double>* x = solver.ac(a, probe.excitation, probe.minus);
-          for (std::size_t l = 0; l < lanes; ++l) out[l] -= x[l];
-        }
+        sum_probe(&lane_probes_[p * lanes], plus ? solver.ac(a, probe.excitation, probe.plus) : nullptr,
+                  minus ? solver.ac(a, probe.excitation, probe.minus) : nullptr);
       }
     }
   }
-  if (reads_lanes_) finish_lanes(thetas, values, statuses, ok, count);
+  if (real_lanes_) {
+    finish_lanes(thetas, lane_real_probes_.data(), values, statuses, ok, count);
+  } else if (reads_lanes_) {
+    finish_lanes(thetas, lane_probes_.data(), values, statuses, ok, count);
+  }
   for (std::size_t l = 0; l < count; ++l) {
     if (ok[l]) {
       if (reads_lanes_) continue;  // finished side by side
@@ -759,19 +779,19 @@ SolveStatus Evaluator::evaluate(const double* theta, double* values) {
 
 // finish() for the solved lanes of a plan whose every value is read from the probes,
 // measurement by measurement across the lanes: the same operations per lane.
-void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
+template <typename P>
+void Evaluator::finish_lanes(const double* const* thetas, const P* probes, double* const* values,
                              SolveStatus* statuses, const unsigned char* ok, std::size_t count) {
   std::size_t saturated[lanes];
   const bool limited = !plan_.limit_checks.empty();  // else no call per lane
   for (std::size_t l = 0; l < count; ++l) {
     saturated[l] = ok[l] && limited
-                       ? saturated_at_operating_point(thetas[l], lane_probes_.data() + l, lanes)
+                       ? saturated_at_operating_point(thetas[l], probes + l, lanes)
                        : Network::npos;
   }
   const std::size_t m_count = plan_.measurements.size();
   for (std::size_t i = 0; i < m_count; ++i) {
     const CompiledMeasurement& m = plan_.measurements[i];
-    const std::complex<double>* probes = lane_probes_.data();
     using K = MeasurementKind;
     switch (m.kind) {  // one formula per loop over the lanes
       case K::gain: read_lanes<K::gain>(m, i, probes, thetas, values, ok, count); break;
@@ -789,7 +809,7 @@ void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
       case K::gain_error: read_lanes<K::gain_error>(m, i, probes, thetas, values, ok, count); break;
       default: break;  // not read_from_probes: plans with such a kind do not come here
     }
-    if (!m.linear) continue;
+    if (!m.linear || !limited) continue;
     // Withheld where an op-amp is beyond its limits at the operating point.
     for (std::size_t l = 0; l < count; ++l) {
       if (ok[l] && saturated[l] != Network::npos) values[l][i] = nan;
@@ -806,12 +826,12 @@ void Evaluator::finish_lanes(const double* const* thetas, double* const* values,
   }
 }
 
-std::size_t Evaluator::saturated_at_operating_point(const double* theta,
-                                                    const std::complex<double>* probes,
+template <typename P>
+std::size_t Evaluator::saturated_at_operating_point(const double* theta, const P* probes,
                                                     std::size_t stride) const {
   std::size_t saturated = Network::npos;  // the last op-amp found beyond its limits
   for (const LimitCheck& check : plan_.limit_checks) {
-    const double v = probes[check.probe * stride].real();
+    const double v = real_part(probes[check.probe * stride]);
     const OutputLimits l = network_.output_limits(theta, check.element);
     if (v > l.high || v < l.low) saturated = check.element;
   }

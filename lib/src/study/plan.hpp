@@ -146,11 +146,14 @@ class Evaluator {
   /// The op-amp element beyond its output limits at the operating point (the last such
   /// in the plan's limit checks), or npos: probe p at probes[p * stride] (one build's
   /// probes, or one lane of the lanes' probes).
-  std::size_t saturated_at_operating_point(const double* theta, const std::complex<double>* probes,
+  template <typename P>
+  std::size_t saturated_at_operating_point(const double* theta, const P* probes,
                                            std::size_t stride) const;
-  /// finish() for the solved lanes (ok[l]) when reads_lanes_, with lane l's flags kept.
-  void finish_lanes(const double* const* thetas, double* const* values, SolveStatus* statuses,
-                    const unsigned char* ok, std::size_t count);
+  /// finish() for the solved lanes (ok[l]) when reads_lanes_, from the lanes' probes
+  /// (lane_probes_, or lane_real_probes_), with lane l's flags kept.
+  template <typename P>
+  void finish_lanes(const double* const* thetas, const P* probes, double* const* values,
+                    SolveStatus* statuses, const unsigned char* ok, std::size_t count);
   /// Keeps the saturation flags of the last evaluation as lane l's.
   void keep_lane(std::size_t l);
   double bandwidth(const CompiledMeasurement& m, const double* theta, double dc_gain,
@@ -169,10 +172,13 @@ class Evaluator {
   std::size_t saturated_opamp_ = Network::npos;
   std::unique_ptr<LaneSolver> lane_solver_;  ///< null when the lanes cannot be used
   std::vector<std::complex<double>> lane_probes_;  ///< probes x lanes
+  std::vector<double> lane_real_probes_;  ///< probes x lanes, when real_lanes_
   std::vector<unsigned char> lane_saturated_;      ///< (lanes + 1) x measurements
   std::vector<std::size_t> lane_saturated_opamp_;
   /// Every measurement is read from the probes alone: the lanes finish side by side.
   bool reads_lanes_ = false;
+  /// reads_lanes_, and every analysis at DC: the lanes' probes are kept real.
+  bool real_lanes_ = false;
 };
 
 }  // namespace lotwise::detail
