@@ -517,9 +517,6 @@ bool read_from_probes(MeasurementKind kind) {
   return kind != MeasurementKind::bandwidth && !is_trip_point(kind);
 }
 
-// The value of a measurement of a kind read_from_probes (m.kind, or the same kind known
-// at compile time): probe p at probes[p * stride] (one build's probes, or one lane of the
-// lanes' probes).
 // The CMRR before its logarithm: |signal / common|, and whether the common-mode gain is
 // within rounding of zero (a perfectly matched network), which is infinite rejection, not a
 // 300 dB figure made of rounding noise. At DC the probes are real; |x + 0i| is |x| exactly,
@@ -545,6 +542,9 @@ inline double decibels(const RejectionRatio& r, double log_ratio) {
   return r.infinite ? std::numeric_limits<double>::infinity() : db_per_neper * log_ratio;
 }
 
+// The value of a measurement of a kind read_from_probes (m.kind, or the same kind known
+// at compile time): probe p at probes[p * stride] (one build's probes, or one lane of the
+// lanes' probes).
 template <typename P>
 inline double read_value(MeasurementKind kind, const CompiledMeasurement& m, const P* probes,
                          std::size_t stride, const double* theta) {
@@ -665,12 +665,10 @@ Evaluator::Evaluator(const Network& network, const Plan& plan,
   if (solver->usable()) lane_solver_ = std::move(solver);
   reads_lanes_ = std::all_of(plan.measurements.begin(), plan.measurements.end(),
                              [](const CompiledMeasurement& m) { return read_from_probes(m.kind); });
-  // Every analysis at DC: the lanes' probes are real (a phase is read from complex ones).
-  real_lanes_ = reads_lanes_ &&
-                std::all_of(plan.analyses.begin(), plan.analyses.end(),
-                            [](const Analysis& a) { return a.frequency == 0.0; }) &&
-                std::none_of(plan.measurements.begin(), plan.measurements.end(),
-                             [](const CompiledMeasurement& m) { return m.kind == MeasurementKind::phase; });
+  // Every analysis at DC (a phase measurement always has one above 0 Hz): the lanes'
+  // probes are real.
+  real_lanes_ = reads_lanes_ && std::all_of(plan.analyses.begin(), plan.analyses.end(),
+                                            [](const Analysis& a) { return a.frequency == 0.0; });
   if (real_lanes_) lane_real_probes_.assign(plan.probes.size() * lanes, 0.0);
 }
 
